@@ -1,0 +1,390 @@
+"""The results of ``ringprint run``: modes.json, modes.csv, spectrum.png, report.html, run.log.
+
+:func:`write_results` writes them all into one output directory; each file appears
+only when complete (:mod:`ringprint.analysis.outputs`). The pieces are
+:func:`~ringprint.analysis.results.write_json`,
+:func:`~ringprint.analysis.results.write_csv`,
+:func:`~ringprint.analysis.plots.write_spectrum_png`, :func:`write_report_html` and
+:func:`~ringprint.analysis.outputs.write_run_log`;
+:func:`~ringprint.analysis.results.format_summary_table` gives the terminal table.
+
+Data model
+----------
+The writers take plain, JSON-ready Python data (numpy scalars/arrays are accepted
+and converted), so they know nothing of the solver. SI units throughout.
+
+``summary`` (dict) -- becomes ``modes.json`` as is (plus ``"ringprint_version"``
+when absent, and ``"bands"`` -- the band list -- when absent)::
+
+    "case":  str (the case name) or dict
+             {"name": str, required
+              "title": str, optional (default: the name)
+              "file": str, optional (path of the case file)
+              "parts": [{"name": str, "material": str, ...}, ...], optional
+              "spectrum": {"low_hz": float, "high_hz": float}, optional
+              ...any other keys}
+    "grid":  dict, shown key by key; the keys the report labels are
+             "nodes": [Nx, Ny, Nz], "cells": int, "step_min_m": float,
+             "step_max_m": float, "cpml_cells": int; others are shown as given.
+    "modes": list, one dict per resonance, numbered from 1 in order of frequency:
+             "index": int (1, 2, ...),
+             "frequency_hz": float > 0, the real part of the complex frequency / 2 pi,
+             "q": float > 0, Q = omega / (2 decay_rate),
+             "decay_rate_per_s": float >= 0, the amplitude decay rate (field ~ exp(-rate t)),
+             "amplitude": float >= 0, the magnitude of the mode's complex amplitude
+                          (its phase, if wanted, under an added key "phase_rad"),
+             "error": float >= 0 or None, the relative error estimate of the
+                      complex frequency (|delta omega| / |omega|; shown in ppm or %),
+             "q_chu": float > 0 or None, the Chu lower bound of Q for the sphere
+                      that encloses the part(s) that ring,
+             "bands": [{"band": str (a band name), "status": "inside"|"near"|"clear",
+                        "distance_percent": float (100 x distance to the nearest band
+                        edge / frequency, negative inside; see ringprint.analysis.bands),
+                        optional "overlap": float 0..1}, ...],
+             "participation": {part name: fraction of the mode's energy in that
+                               part, 0..1},
+             optional: "q_over_chu": float (default q / q_chu), "confidence": str
+             (e.g. "high"/"low") or float, "phase_rad": float, any other scalar keys
+             (they become extra CSV columns).
+    optional:
+    "hazards": [{"mode": int (mode index), "band": str, "status": "inside"|"near",
+                 "distance_percent": float, "rank": int >= 1 (1 = worst, unique)}, ...];
+               when absent the writers rank the modes' inside/near entries
+               (:func:`~ringprint.analysis.results.hazards_from_modes`).
+    "run": {"steps": int, "dt_s": float, "wall_time_s": float, "memory_bytes": int,
+            ...other facts, shown as given},
+    "notes": [str, ...] -- warnings of the run, shown in the report,
+    "ringprint_version": str.
+
+``bands`` (list) -- the operating bands checked:
+``[{"name": str (unique), "low_hz": float, "high_hz": float > low_hz, "source": str
+(the document the edges come from)}, ...]``; :class:`ringprint.analysis.bands.Band`
+objects are accepted too.
+
+``spectrum`` (dict) -- for the plot, either computed by the caller,
+``{"frequency_hz": 1-D array (strictly increasing), "magnitude_db": same shape}``, or
+a probe record for the writer to transform,
+``{"record": (n_samples,) or (n_pickups, n_samples) array, "dt_s": float,
+"start_index": int (first sample after the source has died away; default 0)}`` --
+Hann window, zero-padded 4x, pickups combined by summed power, dB re the peak
+(:func:`~ringprint.analysis.plots.spectrum_from_record`).
+
+Every check failure raises :class:`~ringprint.errors.RingprintError` naming the key
+path (e.g. ``summary.modes[2].q``) and the fix; nothing is written then.
+"""
+
+from __future__ import annotations
+
+import base64
+import datetime
+import html
+import os
+from collections.abc import Iterable, Mapping, Sequence
+from pathlib import Path
+
+from ringprint import __version__
+from ringprint.analysis.outputs import (atomic_write_bytes, atomic_write_text,
+                                        prepare_output_dir, write_run_log)
+from ringprint.analysis.plots import check_spectrum, render_spectrum_png, write_spectrum_png
+from ringprint.analysis.results import (format_summary_table, q_over_chu, hazards_from_modes,
+                                        validate_bands, validate_summary, write_csv, write_json)
+from ringprint.analysis.textformat import (format_bytes, format_duration, format_error,
+                                           format_frequency, format_number, format_percent,
+                                           format_q, format_sci, format_si)
+
+__all__ = ["write_results", "write_report_html", "build_report_html", "SAFETY_NOTE",
+           "write_json", "write_csv", "write_spectrum_png", "write_run_log",
+           "format_summary_table"]
+
+#: The fixed safety note every report carries.
+SAFETY_NOTE = ("ringprint predicts resonances for design guidance only. It does not replace "
+               "regulatory RF-exposure (SAR) evaluation or safety testing: defer to your "
+               "local codes and licensed practice.")
+
+_CSS = """
+body{font-family:sans-serif;margin:1.5em auto;max-width:72em;color:#111;line-height:1.4}
+h1{font-size:1.5em;margin-bottom:.2em} h2{font-size:1.15em;margin-top:1.6em;
+border-bottom:1px solid #999}
+table{border-collapse:collapse;margin:.5em 0} th,td{border:1px solid #bbb;
+padding:.2em .6em;text-align:left;vertical-align:top} th{background:#eee}
+td.num{text-align:right;font-variant-numeric:tabular-nums;white-space:nowrap}
+tr.inside td{background:#ddd;font-weight:bold} tr.near td{background:#f3f3f3}
+.safety{border:2px solid #333;padding:.6em .9em;background:#fafafa}
+.muted{color:#555} img{max-width:100%;height:auto}
+"""
+
+
+def _e(value) -> str:
+    return html.escape(str(value), quote=True)
+
+
+def _table(table_id: str, header: Sequence[str], rows: Iterable[Sequence],
+           numeric: Sequence[bool], row_classes: Sequence[str] | None = None) -> str:
+    head = "".join(f"<th>{_e(h)}</th>" for h in header)
+    body = []
+    for k, row in enumerate(rows):
+        cls = f' class="{_e(row_classes[k])}"' if row_classes else ""
+        cells = "".join(f'<td class="num">{_e(c)}</td>' if num else f"<td>{_e(c)}</td>"
+                        for c, num in zip(row, numeric))
+        body.append(f"<tr{cls}>{cells}</tr>")
+    return (f'<table id="{table_id}"><thead><tr>{head}</tr></thead>'
+            f"<tbody>{''.join(body)}</tbody></table>")
+
+
+def _facts(facts: Sequence[tuple[str, str]], table_id: str) -> str:
+    rows = "".join(f"<tr><th>{_e(k)}</th><td>{_e(v)}</td></tr>" for k, v in facts)
+    return f'<table id="{table_id}"><tbody>{rows}</tbody></table>'
+
+
+def _case_dict(summary: Mapping) -> dict:
+    case = summary["case"]
+    return {"name": case} if isinstance(case, str) else dict(case)
+
+
+def _spectrum_limits(summary: Mapping):
+    spec = _case_dict(summary).get("spectrum") or {}
+    lo, hi = spec.get("low_hz"), spec.get("high_hz")
+    return (float(lo), float(hi)) if lo is not None and hi is not None and hi > lo else None
+
+
+_GRID_LABELS = {"nodes": "grid nodes (x, y, z)", "cells": "cells",
+                "step_min_m": "smallest cell step", "step_max_m": "largest cell step",
+                "cpml_cells": "absorbing layer (cells per face)"}
+
+
+def _grid_facts(grid: Mapping) -> list[tuple[str, str]]:
+    facts = []
+    for key, value in grid.items():
+        if key == "nodes" and isinstance(value, list):
+            text = " \u00d7 ".join(str(v) for v in value)
+        elif key.endswith("_m") and isinstance(value, (int, float)):
+            text = format_si(value, "m")
+        elif isinstance(value, int) and not isinstance(value, bool):
+            text = f"{value:,}"
+        else:
+            text = value
+        facts.append((_GRID_LABELS.get(key, key.replace("_", " ")), str(text)))
+    return facts
+
+
+def _run_facts(summary: Mapping) -> list[tuple[str, str]]:
+    run = dict(summary.get("run") or {})
+    facts = []
+    if "steps" in run:
+        facts.append(("time steps", f"{run.pop('steps'):,}"))
+    if "dt_s" in run:
+        dt = run.pop("dt_s")
+        facts.append(("time step", format_si(dt, "s")))
+        steps = (summary.get("run") or {}).get("steps")
+        if isinstance(steps, int):
+            facts.append(("simulated time", format_si(steps * dt, "s")))
+    if "wall_time_s" in run:
+        facts.append(("wall time", format_duration(run.pop("wall_time_s"))))
+    if "memory_bytes" in run:
+        facts.append(("peak memory", format_bytes(run.pop("memory_bytes"))))
+    facts += [(k.replace("_", " "), str(v)) for k, v in run.items()]
+    facts.append(("ringprint version", str(summary.get("ringprint_version", "unknown"))))
+    return facts
+
+
+def _participation_text(mode: Mapping, top: int = 3) -> str:
+    shares = sorted(mode["participation"].items(), key=lambda kv: -kv[1])[:top]
+    return ", ".join(f"{part} {format_percent(100.0 * share)}" for part, share in shares) or "-"
+
+
+def _bands_text(mode: Mapping) -> str:
+    return "; ".join(
+        f"{e['band']} {e['status']}" + ("" if e["status"] == "inside"
+                                        else f" ({format_percent(e['distance_percent'])})")
+        for e in mode["bands"]) or "-"
+
+
+def _case_section(summary: Mapping, bands: Sequence[Mapping]) -> str:
+    case = _case_dict(summary)
+    facts = [("case", case["name"])]
+    if case.get("file"):
+        facts.append(("case file", case["file"]))
+    limits = _spectrum_limits(summary)
+    if limits:
+        facts.append(("spectrum analysed", f"{format_frequency(limits[0], trim=True)} to "
+                                           f"{format_frequency(limits[1], trim=True)}"))
+    out = ["<h2>Case</h2>", _facts(facts, "case-facts")]
+    parts = case.get("parts") or []
+    if parts:
+        out.append("<h3>Parts</h3>")
+        out.append(_table("parts", ["part", "material"],
+                          [[p.get("name", "?"), p.get("material", "?")] for p in parts],
+                          [False, False]))
+    if bands:
+        out.append("<h3>Operating bands checked</h3>")
+        out.append(_table("bands", ["band", "from", "to", "source"],
+                          [[b["name"], format_frequency(b["low_hz"], trim=True, digits=7),
+                            format_frequency(b["high_hz"], trim=True, digits=7), b["source"]]
+                           for b in bands], [False, True, True, False]))
+    out.append("<h3>Grid</h3>")
+    out.append(_facts(_grid_facts(summary["grid"]), "grid-facts"))
+    return "\n".join(out)
+
+
+def _hazard_section(summary: Mapping, hazards: Sequence[Mapping]) -> str:
+    out = ['<h2 id="hazards-title">Hazards: modes inside or near a band (worst first)</h2>']
+    modes = summary["modes"]
+    if not hazards:
+        out.append('<p id="no-hazards">No mode lies inside or near any band checked.</p>')
+        return "\n".join(out)
+    rows, classes = [], []
+    for h in sorted(hazards, key=lambda h: h["rank"]):
+        m = modes[h["mode"] - 1]
+        rows.append([h["rank"], m["index"], format_frequency(m["frequency_hz"], m["error"]),
+                     format_q(m["q"]), h["band"], h["status"],
+                     format_percent(h["distance_percent"]), _participation_text(m)])
+        classes.append(h["status"])
+    out.append(_table("hazards", ["rank", "mode", "frequency", "Q", "band", "status",
+                                  "distance to edge", "where it rings"], rows,
+                      [True, True, True, True, False, False, True, False], classes))
+    return "\n".join(out)
+
+
+def _modes_section(summary: Mapping) -> str:
+    out = ["<h2>All modes</h2>"]
+    modes = summary["modes"]
+    if not modes:
+        out.append('<p id="no-modes">No resonance was found in the analysed spectrum.</p>')
+        return "\n".join(out)
+    has_conf = any("confidence" in m for m in modes)
+    header = ["mode", "frequency", "Q", "Q / Q_Chu", "decay rate (1/s)", "amplitude",
+              "error", "bands", "where it rings"] + (["confidence"] if has_conf else [])
+    rows = [[m["index"], format_frequency(m["frequency_hz"], m["error"]), format_q(m["q"]),
+             format_q(q_over_chu(m)), format_sci(m["decay_rate_per_s"]),
+             format_number(m["amplitude"]), format_error(m["error"]), _bands_text(m),
+             _participation_text(m)] + ([str(m.get("confidence", "-"))] if has_conf else [])
+            for m in modes]
+    numeric = [True] * 7 + [False, False] + ([False] if has_conf else [])
+    out.append(_table("modes", header, rows, numeric))
+    out.append('<p class="muted">Q / Q_Chu compares the Q with the Chu limit of the smallest '
+               "sphere around the part(s) that ring; near 1 means the part radiates about as "
+               "well as anything of its size can. Error: estimated relative error of the "
+               "complex frequency.</p>")
+    return "\n".join(out)
+
+
+def build_report_html(summary: Mapping, png: bytes, bands: Sequence[Mapping] = ()) -> str:
+    """The report page as one self-contained HTML string (image embedded as base64).
+
+    ``summary`` must already be checked (:func:`validate_summary`); ``png`` is the
+    spectrum picture. Order: title and safety note, case (parts, spectrum limits,
+    bands, grid), spectrum plot, hazard table, all modes, run facts, notes.
+    """
+    case = _case_dict(summary)
+    title = case.get("title") or case["name"]
+    hazards = summary.get("hazards")
+    if hazards is None:
+        hazards = hazards_from_modes(summary["modes"])
+    stamp = datetime.datetime.now().astimezone().strftime("%Y-%m-%d %H:%M %Z")
+    image = base64.b64encode(png).decode("ascii")
+    n = len(summary["modes"])
+    notes = summary.get("notes") or []
+    parts = [
+        "<!DOCTYPE html>", '<html lang="en"><head><meta charset="utf-8">',
+        f"<title>ringprint report: {_e(title)}</title>", f"<style>{_CSS}</style></head><body>",
+        f"<h1>{_e(title)}</h1>",
+        f'<p class="muted">Resonances found by ringprint: {n} mode{"s" if n != 1 else ""}, '
+        f"{len(hazards)} band hazard{'s' if len(hazards) != 1 else ''}. Written {_e(stamp)}.</p>",
+        f'<p class="safety" id="safety-note"><strong>Safety note.</strong> {_e(SAFETY_NOTE)}</p>',
+        _case_section(summary, bands),
+        "<h2>Spectrum</h2>",
+        f'<img id="spectrum" alt="Probe spectrum with operating bands shaded and a numbered '
+        f'marker at each mode" src="data:image/png;base64,{image}">',
+        _hazard_section(summary, hazards),
+        _modes_section(summary),
+        "<h2>Run</h2>",
+        _facts(_grid_facts(summary["grid"]) + _run_facts(summary), "run-facts"),
+    ]
+    if notes:
+        parts.append("<h2>Notes from the run</h2><ul id=\"notes\">"
+                     + "".join(f"<li>{_e(note)}</li>" for note in notes) + "</ul>")
+    parts.append("</body></html>")
+    return "\n".join(parts) + "\n"
+
+
+def write_report_html(path: str | os.PathLike, summary: Mapping, spectrum: Mapping,
+                      bands: Sequence[Mapping] = (), png: bytes | None = None) -> Path:
+    """Write ``report.html`` atomically (``path`` may be the output directory).
+
+    Parameters
+    ----------
+    path : str or path-like
+        The file, or a directory to hold ``report.html``.
+    summary, spectrum, bands
+        See the module docstring.
+    png : bytes, optional
+        An already rendered spectrum picture (saves drawing it twice).
+    """
+    bands = validate_bands(list(bands))
+    data = validate_summary(summary, bands)
+    data.setdefault("ringprint_version", __version__)
+    if png is None:
+        freq, mag = check_spectrum(spectrum)
+        png = _render(data, freq, mag, bands)
+    target = Path(path)
+    if target.is_dir():
+        target = target / "report.html"
+    return atomic_write_text(target, build_report_html(data, png, bands))
+
+
+def _render(data: Mapping, freq, mag, bands) -> bytes:
+    case = _case_dict(data)
+    return render_spectrum_png(freq, mag, data["modes"], bands, _spectrum_limits(data),
+                               case.get("title") or case["name"])
+
+
+def write_results(out_dir: str | os.PathLike, summary: Mapping, spectrum: Mapping,
+                  bands: Sequence[Mapping], log_lines: Iterable[str] | None = None
+                  ) -> dict[str, Path]:
+    """Write every result file of a run into ``out_dir``.
+
+    Everything is checked first, so bad input writes nothing. Then ``modes.json``,
+    ``modes.csv``, ``spectrum.png``, ``report.html`` and (when ``log_lines`` is
+    given) ``run.log`` are written, each atomically.
+
+    Parameters
+    ----------
+    out_dir : str or path-like
+        Output directory; created if missing (:func:`prepare_output_dir`).
+    summary : dict
+        The run summary (module docstring). ``modes.json`` holds it plus
+        ``"bands"`` (this band list) and ``"ringprint_version"`` when those are absent.
+    spectrum : dict
+        The probe spectrum or record (module docstring).
+    bands : list of dict
+        The operating bands checked.
+    log_lines : iterable of str, optional
+        Lines for ``run.log``. Leave None when a
+        :class:`~ringprint.analysis.outputs.RunLogHandler` writes the log.
+
+    Returns
+    -------
+    dict
+        ``{"json", "csv", "png", "html"[, "log"]}`` -> written paths.
+
+    Raises
+    ------
+    RingprintError
+        On bad input (naming the key) or an unusable output directory.
+    """
+    bands = validate_bands(list(bands))
+    data = validate_summary(summary, bands)
+    data.setdefault("bands", bands)
+    data.setdefault("ringprint_version", __version__)
+    freq, mag = check_spectrum(spectrum)
+    out = prepare_output_dir(out_dir)
+    png = _render(data, freq, mag, bands)
+    written = {
+        "json": write_json(out / "modes.json", data),
+        "csv": write_csv(out / "modes.csv", data),
+        "png": atomic_write_bytes(out / "spectrum.png", png),
+        "html": atomic_write_text(out / "report.html", build_report_html(data, png, bands)),
+    }
+    if log_lines is not None:
+        written["log"] = write_run_log(out / "run.log", log_lines)
+    return written
