@@ -1,0 +1,23 @@
+"""Geometry layer: read parts, check them, plan the grid, voxelize onto Yee edges.
+
+Knows no Maxwell equations; it answers "how much of this Yee edge lies inside that
+part". Coordinates are metres once :func:`transform_surface` has applied the unit.
+"""
+
+from ringprint.meshing.checks import HOLE_FRACTION, MeshingWarning, prepare_surface
+from ringprint.meshing.grid import (Grid, available_memory, cell_size, check_memory, default_padding,
+                                    memory_estimate, plan_grid, thickness, warn_thin_parts)
+from ringprint.meshing.overlap import resolve_overlaps
+from ringprint.meshing.read import CAD_EXTENSIONS, MESH_EXTENSIONS, read_surfaces
+from ringprint.meshing.surface import Surface, signed_volume
+from ringprint.meshing.transform import UNITS, rotation_matrix, transform_surface, unit_scale
+from ringprint.meshing.voxelize import (EdgeBox, PartFill, dual_nodes, edge_fractions, surface_cuts,
+                                        voxelize)
+
+__all__ = [
+    "CAD_EXTENSIONS", "EdgeBox", "Grid", "HOLE_FRACTION", "MESH_EXTENSIONS", "MeshingWarning",
+    "PartFill", "Surface", "UNITS", "available_memory", "cell_size", "check_memory",
+    "default_padding", "dual_nodes", "edge_fractions", "memory_estimate", "plan_grid",
+    "prepare_surface", "read_surfaces", "resolve_overlaps", "rotation_matrix", "signed_volume",
+    "surface_cuts", "thickness", "transform_surface", "unit_scale", "voxelize", "warn_thin_parts",
+]

@@ -1,0 +1,152 @@
+"""Reading parts: triangle meshes through meshio, CAD B-rep through gmsh."""
+
+import os
+import re
+import tempfile
+import warnings
+
+import numpy as np
+
+from ringprint.errors import RingprintError
+from ringprint.meshing.surface import Surface
+
+#: Extensions read through meshio (triangle/quad surfaces, or tetrahedra whose outer
+#: faces are taken).
+MESH_EXTENSIONS = (".stl", ".obj", ".ply", ".off", ".vtk", ".vtu", ".msh")
+#: Extensions tessellated through gmsh's OpenCASCADE kernel (coordinates in metres).
+CAD_EXTENSIONS = (".step", ".stp", ".iges", ".igs")
+
+
+def read_surfaces(path, cell_size=None):
+    """Read every body of a mesh or CAD file as triangle surfaces.
+
+    Parameters
+    ----------
+    path : str or os.PathLike
+        File with one of :data:`MESH_EXTENSIONS` or :data:`CAD_EXTENSIONS`.
+    cell_size : float or None
+        Grid cell size in metres. CAD bodies are tessellated with triangles no larger
+        than half a cell and at least 24 segments per full turn of a curved face, so
+        the chord error stays far below a cell (see :func:`read_cad`). Ignored for
+        mesh files.
+
+    Returns
+    -------
+    list of Surface
+        One per body, named from the file where the format carries names (ASCII STL
+        ``solid`` names, Gmsh physical groups, STEP/IGES labels), else from the file
+        stem. Mesh-file coordinates are in the file's own unit (``file_unit`` None:
+        the caller says which); CAD coordinates are in metres (``file_unit`` "m").
+
+    Raises
+    ------
+    RingprintError
+        Missing, empty, truncated or unreadable file, unknown extension, a CAD file
+        without solids, a mesh without triangles.
+    """
+    path = os.fspath(path)
+    ext = os.path.splitext(path)[1].lower()
+    if ext not in MESH_EXTENSIONS + CAD_EXTENSIONS:
+        raise RingprintError(f"{path}: unknown file extension {ext or '(none)'!r}; "
+                             f"use one of {' '.join(MESH_EXTENSIONS + CAD_EXTENSIONS)}")
+    if not os.path.isfile(path):
+        raise RingprintError(f"{path}: no such file; check the path in the case file")
+    if os.path.getsize(path) == 0:
+        raise RingprintError(f"{path}: the file is empty; export the part again")
+    if ext in CAD_EXTENSIONS:
+        from ringprint.meshing._cad import read_cad
+        return read_cad(path, cell_size)
+    if ext == ".stl":
+        return _read_stl(path)
+    return _from_meshio(path, _meshio_read(path))
+
+
+def _meshio_read(path, file_format=None):
+    import meshio
+
+    try:
+        with warnings.catch_warnings():
+            warnings.simplefilter("ignore")
+            return meshio.read(path, file_format=file_format)
+    except Exception as exc:  # meshio raises many types for bad bytes
+        kind = os.path.splitext(path)[1].lstrip(".").upper()
+        detail = " ".join(str(exc).split())[:120]
+        raise RingprintError(f"{path}: cannot be read as a {kind} mesh ({type(exc).__name__}: "
+                             f"{detail}); check the file is complete and re-export it") from None
+
+
+def _read_stl(path):
+    """STL: check binary sizes before meshio sees the bytes; split ASCII solids."""
+    size = os.path.getsize(path)
+    with open(path, "rb") as fh:
+        head = fh.read(84)
+    n = int(np.frombuffer(head[80:84], "<u4")[0]) if len(head) == 84 else -1
+    if n >= 0 and 84 + 50 * n == size:
+        return _from_meshio(path, _meshio_read(path, "stl"))
+    with open(path, "rb") as fh:
+        raw = fh.read()
+    try:
+        text = raw.decode("ascii")
+    except UnicodeDecodeError:
+        text = None
+    if text is None or not text.lstrip().lower().startswith("solid"):
+        if n >= 0:
+            raise RingprintError(f"{path}: truncated or corrupt binary STL (header says {n} "
+                                 f"triangles = {84 + 50 * n} bytes, file has {size}); export it again")
+        raise RingprintError(f"{path}: not an STL file (neither binary nor ASCII 'solid ...'); "
+                             "export it again as STL")
+    blocks = re.findall(r"^\s*solid\b[ \t]*([^\r\n]*)(.*?)^\s*endsolid\b[^\r\n]*",
+                        text, flags=re.S | re.M | re.I)
+    if not blocks:
+        raise RingprintError(f"{path}: ASCII STL without a complete 'solid ... endsolid' block; "
+                             "the file is truncated, export it again")
+    stem = os.path.splitext(os.path.basename(path))[0]
+    surfaces = []
+    for k, (name, body) in enumerate(blocks):
+        with tempfile.TemporaryDirectory() as tmp:
+            part = os.path.join(tmp, "part.stl")
+            with open(part, "w") as fh:
+                fh.write(f"solid x\n{body}\nendsolid x\n")
+            mesh = _meshio_read(part, "stl")
+        label = name.strip() or (stem if len(blocks) == 1 else f"{stem}:{k}")
+        surfaces += _from_meshio(path, mesh, default_name=label)
+    return surfaces
+
+
+def _triangles(cells_type, data):
+    """Triangles from a meshio cell block (quads split; tetrahedra -> outer faces)."""
+    if cells_type == "triangle":
+        return data
+    if cells_type == "quad":
+        return np.concatenate([data[:, [0, 1, 2]], data[:, [0, 2, 3]]])
+    if cells_type == "tetra":
+        f = np.concatenate([data[:, [0, 2, 1]], data[:, [0, 1, 3]], data[:, [1, 2, 3]], data[:, [0, 3, 2]]])
+        key = np.sort(f, axis=1)
+        _, inv, cnt = np.unique(key, axis=0, return_inverse=True, return_counts=True)
+        return f[cnt[inv.reshape(-1)] == 1]
+    return None
+
+
+def _from_meshio(path, mesh, default_name=None):
+    stem = os.path.splitext(os.path.basename(path))[0]
+    pts = np.asarray(mesh.points, np.float64)
+    if pts.ndim == 2 and pts.shape[1] == 2:
+        pts = np.c_[pts, np.zeros(len(pts))]
+    groups = {}  # body key -> list of triangle arrays
+    physical = mesh.cell_data.get("gmsh:physical")
+    names = {int(v[0]): k for k, v in (mesh.field_data or {}).items() if len(v) >= 1}
+    for b, block in enumerate(mesh.cells):
+        tri = _triangles(block.type, np.asarray(block.data, np.int64))
+        if tri is None or len(tri) == 0:
+            continue
+        if physical is not None and block.type == "triangle":
+            tags = np.asarray(physical[b]).reshape(-1)
+            for t in np.unique(tags):
+                groups.setdefault(names.get(int(t), f"{stem}:{int(t)}") if t else stem, []).append(tri[tags == t])
+        else:
+            groups.setdefault(default_name or stem, []).append(tri)
+    if not groups:
+        raise RingprintError(f"{path}: holds no triangles, quads or tetrahedra; export the part "
+                             "as a closed triangle surface")
+    return [Surface(name=name, vertices=pts, faces=np.concatenate(tris), source=path)
+            for name, tris in groups.items()]

@@ -1,0 +1,255 @@
+"""Edge fill fractions and surface-cut masks of a part on a Yee grid."""
+
+from dataclasses import dataclass
+
+import numpy as np
+
+from ringprint.errors import RingprintError
+from ringprint.meshing import _kernels, _rays
+
+COMPONENTS = ("x", "y", "z")
+
+
+@dataclass(frozen=True)
+class EdgeBox:
+    """Data of one E component restricted to a part's box.
+
+    ``data[..., i, j, k]`` belongs to the full edge array index
+    ``(offset[0] + i, offset[1] + j, offset[2] + k)`` of that component
+    (Ex: (Nx-1, Ny, Nz), Ey: (Nx, Ny-1, Nz), Ez: (Nx, Ny, Nz-1)).
+    """
+
+    offset: tuple
+    data: np.ndarray
+
+    @property
+    def slices(self):
+        """Index into the full component array: ``full[box.slices]``."""
+        shape = self.data.shape[-3:]
+        return tuple(slice(o, o + n) for o, n in zip(self.offset, shape))
+
+
+@dataclass(frozen=True)
+class PartFill:
+    """Voxelization of one part.
+
+    Attributes
+    ----------
+    name, kind : str
+        From the surface (``"solid"`` or ``"sheet"``).
+    subrays : int
+        n; each edge is sampled by n x n rays parallel to it.
+    fractions : dict or None
+        ``{"x"|"y"|"z": EdgeBox}`` with ``data`` float32 of shape (n*n, bx, by, bz):
+        per sub-ray, the fraction of the edge's length inside the part. Sub-ray
+        ``s = mb * n + mc`` sits at the centre of sub-interval ``mb`` (of n equal ones)
+        of the edge's dual interval along the first transverse axis ``b`` and ``mc``
+        along ``c``, with (b, c) = (y, z) for Ex, (z, x) for Ey, (x, y) for Ez. For odd
+        n the middle sub-ray ``s = (n*n) // 2`` is the edge itself on a uniform grid.
+        None for sheets.
+    cuts : dict or None
+        ``{"x"|"y"|"z": EdgeBox}`` with ``data`` bool (bx, by, bz): the edge is cut by
+        the surface (rule in :func:`surface_cuts`). Present for sheets and when asked.
+    """
+
+    name: str
+    kind: str
+    subrays: int
+    fractions: dict | None
+    cuts: dict | None
+
+    def centre(self, comp):
+        """Fraction of each edge itself inside the part (middle sub-ray), float32."""
+        box = self.fractions[comp]
+        return EdgeBox(box.offset, box.data[box.data.shape[0] // 2])
+
+    def volume(self, x, y, z):
+        """Part volume from the fractions of component ``comp`` for each of x, y, z:
+        sum of (mean over sub-rays of the fraction) x (edge length x dual area)."""
+        axes = (np.asarray(x), np.asarray(y), np.asarray(z))
+        out = {}
+        for a, comp in enumerate(COMPONENTS):
+            box = self.fractions[comp]
+            w = [None, None, None]
+            for d in range(3):
+                o, n = box.offset[d], box.data.shape[1 + d]
+                if d == a:
+                    w[d] = np.diff(axes[d])[o:o + n]
+                else:
+                    w[d] = np.diff(dual_nodes(axes[d]))[o:o + n]
+            f = box.data.mean(axis=0, dtype=np.float64)
+            out[comp] = float(np.einsum("ijk,i,j,k->", f, w[0], w[1], w[2]))
+        return out
+
+
+def dual_nodes(a):
+    """Boundaries of the dual intervals of the nodes of axis ``a`` (len(a) + 1):
+    midpoints between nodes, and half a cell beyond the end nodes."""
+    a = np.asarray(a, np.float64)
+    return np.concatenate([[a[0] - (a[1] - a[0]) / 2], (a[:-1] + a[1:]) / 2, [a[-1] + (a[-1] - a[-2]) / 2]])
+
+
+def _check_axes(x, y, z):
+    axes = []
+    for name, a in zip("xyz", (x, y, z)):
+        a = np.asarray(a, np.float64)
+        if a.ndim != 1 or a.size < 2 or not np.all(np.isfinite(a)) or np.any(np.diff(a) <= 0):
+            raise RingprintError(f"grid axis {name} must be a strictly increasing vector of at least "
+                                 "2 finite node coordinates (metres); use plan_grid")
+        axes.append(a)
+    return axes
+
+
+def _boxes(lo, hi, axes, name):
+    """Per axis: (cell range overlapping [lo, hi], node range whose dual overlaps)."""
+    cells, nodes = [], []
+    for d, a in enumerate(axes):
+        i0 = max(np.searchsorted(a, lo[d], "right") - 1, 0)
+        i1 = min(max(np.searchsorted(a, hi[d], "left"), i0 + 1), a.size - 1)
+        du = dual_nodes(a)
+        j0 = max(np.searchsorted(du, lo[d], "right") - 1, 0)
+        j1 = min(np.searchsorted(du, hi[d], "right"), a.size)
+        if hi[d] < a[0] or lo[d] > a[-1] or i1 <= i0 or j1 <= j0:
+            raise RingprintError(f"part {name!r} lies outside the grid along {'xyz'[d]} "
+                                 f"({lo[d]:.4g}..{hi[d]:.4g} m vs {a[0]:.4g}..{a[-1]:.4g} m): "
+                                 "plan the grid from all parts' bounds")
+        cells.append((int(i0), int(i1)))
+        nodes.append((int(j0), int(j1)))
+    return cells, nodes
+
+
+def _subray_positions(a, j0, j1, n):
+    du = dual_nodes(a)[j0:j1 + 1]
+    w = np.diff(du)
+    return (du[:-1, None] + w[:, None] * (np.arange(n) + 0.5) / n).reshape(-1)
+
+
+def edge_fractions(surface, x, y, z, subrays=3):
+    """Per-sub-ray inside fractions of every E-edge near a closed surface.
+
+    Parameters
+    ----------
+    surface : Surface
+        A checked solid (:func:`prepare_surface`), coordinates in metres.
+    x, y, z : ndarray
+        Grid node vectors (metres).
+    subrays : int
+        Odd n (1..9): n x n rays per edge across its dual face.
+
+    Returns
+    -------
+    dict
+        ``{"x"|"y"|"z": EdgeBox}``, data float32 (n*n, bx, by, bz); see :class:`PartFill`.
+
+    Notes
+    -----
+    Each ray's crossings with the surface are exact (barycentric intersection of the
+    axis-parallel line with each triangle); the inside of the ray is where the
+    winding number (sum of signed crossings) is positive, which is the parity rule
+    for a closed outward surface and the union for overlapping shells. Rays through
+    triangle edges or vertices are resolved by symbolic perturbation, so shared edges
+    are counted exactly once.
+
+    References
+    ----------
+    Farjadpour, A. et al., "Improving accuracy by subpixel smoothing in the
+    finite-difference time domain", Opt. Lett. 31(20):2972-2974, 2006.
+    Edelsbrunner, H. & Muecke, E. P., "Simulation of simplicity", ACM Trans. Graph.
+    9(1):66-104, 1990.
+    """
+    axes = _check_axes(x, y, z)
+    if int(subrays) != subrays or subrays < 1 or subrays > 9 or subrays % 2 == 0:
+        raise RingprintError(f"subrays = {subrays!r} must be an odd integer from 1 to 9")
+    n = int(subrays)
+    lo, hi = surface.bounds
+    cells, nodes = _boxes(lo, hi, axes, surface.name)
+    out = {}
+    for a, comp in enumerate(COMPONENTS):
+        b, c = _rays.frame(a)
+        rng = [nodes[d] for d in range(3)]
+        rng[a] = cells[a]
+        shape = tuple(r[1] - r[0] for r in rng)
+        data = np.zeros((n * n,) + shape, np.float32)
+        bq = _subray_positions(axes[b], *nodes[b], n)
+        cq = _subray_positions(axes[c], *nodes[c], n)
+        rs, at, dw = _rays.crossings(surface.vertices, surface.faces, a, bq, cq)
+        anodes = np.ascontiguousarray(axes[a][cells[a][0]:cells[a][1] + 1])
+        _kernels.edge_fractions(rs, at, dw, anodes, n, data.transpose(0, 1 + a, 1 + b, 1 + c))
+        np.clip(data, 0.0, 1.0, out=data)
+        out[comp] = EdgeBox(tuple(r[0] for r in rng), data)
+    return out
+
+
+def surface_cuts(surface, x, y, z):
+    """Mark the E-edges a surface cuts (sheets, and thin shells of conductor solids).
+
+    Rule: the edge with midpoint m along axis a is cut when the surface crosses either
+    of the two segments through m, along the two axes transverse to a, that span the
+    dual interval of m on that axis (one cell long on a uniform grid), taken half-open
+    ``[lower, upper)`` so a crossing on a boundary is counted for one edge only. A
+    plate normal to z thus marks exactly the Ex and Ey edges of the z plane nearest to
+    it, inside its outline, and no Ez edge.
+
+    Returns
+    -------
+    dict
+        ``{"x"|"y"|"z": EdgeBox}`` with bool data (bx, by, bz).
+    """
+    axes = _check_axes(x, y, z)
+    lo, hi = surface.bounds
+    cells, nodes = _boxes(lo, hi, axes, surface.name)
+    out = {}
+    for e, comp in enumerate(COMPONENTS):
+        rng = [nodes[d] for d in range(3)]
+        rng[e] = cells[e]
+        mask = np.zeros(tuple(r[1] - r[0] for r in rng), np.bool_)
+        for d in range(3):
+            if d == e:
+                continue
+            b, c = _rays.frame(d)
+            q = []
+            for t in (b, c):
+                if t == e:  # the edge's own axis: its midpoints, the cell centres
+                    i0, i1 = cells[e]
+                    q.append((axes[t][i0:i1] + axes[t][i0 + 1:i1 + 1]) / 2)
+                else:
+                    j0, j1 = nodes[t]
+                    q.append(axes[t][j0:j1])
+            rs, at, _ = _rays.crossings(surface.vertices, surface.faces, d, q[0], q[1])
+            j0, j1 = nodes[d]
+            dual = np.ascontiguousarray(dual_nodes(axes[d])[j0:j1 + 1])
+            _kernels.mark_cuts(rs, at, dual, mask.transpose(d, b, c))
+        out[comp] = EdgeBox(tuple(r[0] for r in rng), mask)
+    return out
+
+
+def voxelize(surface, x, y, z, subrays=3, cuts=False):
+    """Voxelize one checked part: fractions for solids, cut masks for sheets.
+
+    Parameters
+    ----------
+    surface : Surface
+        Output of :func:`prepare_surface` (``kind`` "solid" or "sheet"), in metres.
+    x, y, z : ndarray
+        Grid node vectors.
+    subrays : int
+        Odd n, n x n sub-rays per edge (default 3).
+    cuts : bool
+        Also compute the surface-cut mask of a solid (do this for conductors so
+        shells thinner than a cell stay conducting). Always done for sheets.
+
+    Returns
+    -------
+    PartFill
+
+    References
+    ----------
+    Farjadpour et al. 2006 (see :func:`edge_fractions`); Yee, K. S., IEEE Trans.
+    Antennas Propag. 14(3):302-307, 1966 (edge positions).
+    """
+    if surface.kind not in ("solid", "sheet"):
+        raise RingprintError(f"part {surface.name!r} has not been checked: call prepare_surface first")
+    if surface.kind == "sheet":
+        return PartFill(surface.name, "sheet", int(subrays), None, surface_cuts(surface, x, y, z))
+    fr = edge_fractions(surface, x, y, z, subrays)
+    return PartFill(surface.name, "solid", int(subrays), fr, surface_cuts(surface, x, y, z) if cuts else None)
