@@ -1,0 +1,390 @@
+"""The case file: one TOML file that describes an assembly and what to analyse.
+
+Keys (every length in ``units``; a frequency is a number in Hz or a string with a
+unit such as ``"2.4 GHz"``)::
+
+    title = "Asset tag"                 # optional; default: the file name without suffix
+    units = "mm"                        # required: m, cm, mm, um, in or mil
+    bands = ["lte-b7", "gps-l1"]        # optional: band presets (ringprint.analysis.bands)
+
+    [spectrum]                          # required
+    f_min = "0.6 GHz"
+    f_max = "6 GHz"
+    loss_at = "1.9 GHz"                 # optional: where loss tangents hold exactly
+                                        # (default sqrt(f_min f_max), see materials)
+    [[part]]                            # one or more
+    name = "housing"
+    file = "tag/housing.step"           # relative to the case file
+    material = "pc-abs"                 # a library name, or a table:
+    # material = { eps_r = 3.0, loss_tangent = 0.01 }   (+ optional name, at = "1 GHz")
+    # material = { eps_r = 3.0, sigma = 0.002 }         conductivity in S/m instead
+    # material = { conductor = true, sigma = 5.8e7 }    a metal (perfect conductor today)
+    translate = [0, 0, 0]               # optional, default no move
+    rotate = { axis = [0, 0, 1], degrees = 0 }          # optional, about the origin
+    scale = 1.0                         # optional
+    mirror = "none"                     # optional: "x", "y", "z" (negate that coordinate)
+    priority = 0                        # optional: where parts overlap, the higher wins
+
+    [[band]]                            # optional: custom bands
+    name = "telemetry"
+    low = "2.30 GHz"
+    high = "2.32 GHz"
+
+    [probe]                             # optional; without it the run picks a position
+    at = [12.0, 4.0, 3.5]
+    normal = "z"                        # x, y or z: the loop's axis
+    size = 2.0                          # loop side; default two air cells, 2 c/(f_max n)
+
+    [grid]                              # optional
+    cells_per_wavelength = 20           # n, in the densest material at f_max
+    padding = 15.0                      # default lambda/(2 pi) at sqrt(f_min f_max)
+    absorber_cells = 10                 # thickness of the absorbing layer, in cells
+
+    [analysis]                          # optional
+    q_max = 200                         # highest Q to resolve (>= 1)
+    detuning_margin = 0.03              # fraction; see ringprint.analysis.bands
+
+    [output]                            # optional
+    fields = true                       # write per-mode field files
+    images = true                       # write mode pictures
+
+A part's mesh coordinates (in ``units``) are scaled, then mirrored, rotated about the
+origin and translated, in that order (:meth:`Part.matrix`).
+
+Default padding: the radiansphere radius ``lambda/(2 pi)`` at the geometric centre
+frequency (Wheeler 1947: the reactive near field of a small resonator lies mostly
+inside it), so the absorbing layer does not load the near field.
+"""
+
+from __future__ import annotations
+
+import math
+import os
+import tomllib
+from dataclasses import dataclass
+from pathlib import Path
+
+import numpy as np
+from scipy.constants import c as C0
+
+from ringprint.analysis import _case_io
+from ringprint.analysis._case_checks import Checker
+from ringprint.analysis._units import LENGTH_UNITS
+from ringprint.analysis.bands import DEFAULT_MARGIN, Band, preset_bands
+from ringprint.analysis.materials import Material, conversion_frequency, get_material
+from ringprint.errors import RingprintError
+
+__all__ = ["Case", "Part", "Probe", "Spectrum", "Grid", "Analysis", "Output", "load_case"]
+
+TOP_KEYS = ("title", "units", "bands", "spectrum", "part", "band", "probe", "grid",
+            "analysis", "output")
+AXES = ("x", "y", "z")
+
+
+@dataclass(frozen=True)
+class Spectrum:
+    """Analysed frequencies (Hz) and the frequency where loss tangents hold exactly."""
+
+    f_min_hz: float
+    f_max_hz: float
+    loss_at_hz: float
+
+
+@dataclass(frozen=True)
+class Part:
+    """One part: its mesh file, material and placement (lengths in metres)."""
+
+    name: str
+    file: Path                     #: absolute path of the mesh/CAD file
+    material: Material
+    material_name: str | None      #: the library name as written, None for a table
+    file_unit_m: float             #: metres per length unit of the mesh file
+    translate_m: tuple[float, float, float] = (0.0, 0.0, 0.0)
+    rotate_axis: tuple[float, float, float] = (0.0, 0.0, 1.0)
+    rotate_degrees: float = 0.0
+    scale: float = 1.0
+    mirror: str | None = None      #: "x", "y", "z" or None
+    priority: int = 0
+
+    def matrix(self) -> np.ndarray:
+        """4x4 affine map from mesh-file coordinates to metres (scale, mirror, rotate, move)."""
+        linear = np.eye(3) * (self.scale * self.file_unit_m)
+        if self.mirror is not None:
+            linear[AXES.index(self.mirror)] *= -1.0
+        axis = np.asarray(self.rotate_axis) / np.linalg.norm(self.rotate_axis)
+        angle = math.radians(self.rotate_degrees)
+        cross = np.array([[0, -axis[2], axis[1]], [axis[2], 0, -axis[0]], [-axis[1], axis[0], 0]])
+        rotation = np.eye(3) + math.sin(angle) * cross + (1 - math.cos(angle)) * cross @ cross
+        out = np.eye(4)
+        out[:3, :3] = rotation @ linear
+        out[:3, 3] = self.translate_m
+        return out
+
+
+@dataclass(frozen=True)
+class Probe:
+    """A small loop probe: centre (m), axis ("x", "y" or "z") and side (m)."""
+
+    at_m: tuple[float, float, float]
+    normal: str
+    size_m: float
+
+
+@dataclass(frozen=True)
+class Grid:
+    cells_per_wavelength: float
+    padding_m: float
+    absorber_cells: int
+
+
+@dataclass(frozen=True)
+class Analysis:
+    q_max: float
+    detuning_margin: float
+
+
+@dataclass(frozen=True)
+class Output:
+    fields: bool
+    images: bool
+
+
+@dataclass(frozen=True)
+class Case:
+    """A validated case, SI throughout; see the module docstring for the file format."""
+
+    source: Path                   #: absolute path of the case file
+    title: str
+    units: str
+    unit_m: float
+    spectrum: Spectrum
+    parts: tuple[Part, ...]
+    band_presets: tuple[str, ...]
+    custom_bands: tuple[Band, ...]
+    probe: Probe | None
+    grid: Grid
+    analysis: Analysis
+    output: Output
+
+    @property
+    def bands(self) -> tuple[Band, ...]:
+        """Every band to judge against: the presets' bands, then the custom ones."""
+        return tuple(b for name in self.band_presets for b in preset_bands(name)) + self.custom_bands
+
+    def medium(self, part: Part) -> tuple[float, float, bool]:
+        """``(eps_r, sigma_S_per_m, is_pec)`` of a part as the solver uses it."""
+        m = part.material
+        if m.is_pec:
+            return 1.0, 0.0, True
+        return m.eps_r, m.conductivity(self.spectrum.loss_at_hz), False
+
+    def resolved(self) -> dict:
+        """The case as it will be run, all defaults filled in, in the user's units."""
+        return _case_io.resolved_dict(self)
+
+    def resolved_toml(self) -> str:
+        """:meth:`resolved` as TOML text (for ``case.resolved.toml``); loads back to the same case."""
+        return _case_io.to_toml(self.resolved())
+
+    def digest(self) -> str:
+        """Stable SHA-256 (hex) of everything that changes the simulated fields.
+
+        Covers the spectrum, every part (name, file *contents*, placement, medium as the
+        solver sees it), the probe, the grid and ``q_max``, all in SI; not the title,
+        bands, margin or output switches, and not where the files live. Equal digests
+        mean a checkpoint can be reused.
+        """
+        return _case_io.digest(self)
+
+
+def load_case(path: str | os.PathLike) -> Case:
+    """Read and validate a case file.
+
+    Parameters
+    ----------
+    path : str or path-like
+        The TOML case file.
+
+    Returns
+    -------
+    Case
+        Frozen, SI units, absolute file paths.
+
+    Raises
+    ------
+    RingprintError
+        One line ``FILE:LINE: WHERE key 'KEY': problem; fix`` for every defect.
+    """
+    display = os.fspath(path)
+    source = Path(path).expanduser().resolve()
+    try:
+        text = source.read_text(encoding="utf-8")
+    except FileNotFoundError:
+        raise RingprintError(f"{display}: case file not found (looked for {source})") from None
+    except (OSError, UnicodeDecodeError) as exc:
+        raise RingprintError(f"{display}: cannot read the case file: {exc}") from None
+    try:
+        data = tomllib.loads(text)
+    except tomllib.TOMLDecodeError as exc:
+        raise RingprintError(_case_io.syntax_message(display, str(exc))) from None
+    return _build(Checker(display, text), data, source)
+
+
+def _build(ck: Checker, data: dict, source: Path) -> Case:
+    ck.table(data, (), TOP_KEYS)
+    title = ck.string(data["title"], ("title",)) if "title" in data else source.stem
+    units = ck.choice(ck.require(data, "units", ()), ("units",), LENGTH_UNITS)
+    unit = LENGTH_UNITS[units]
+    spectrum = _spectrum(ck, ck.require(data, "spectrum", ()))
+    parts = _parts(ck, data.get("part"), source.parent, unit)
+    presets, custom = _bands(ck, data)
+    grid = _grid(ck, data.get("grid", {}), spectrum, unit)
+    probe = _probe(ck, data["probe"], spectrum, grid, unit) if "probe" in data else None
+    table = ck.table(data.get("analysis", {}), ("analysis",), ("q_max", "detuning_margin"))
+    analysis = Analysis(
+        q_max=ck.number(table.get("q_max", 200.0), ("analysis", "q_max"), low=1.0,
+                        hint="Q below 1 is not a resonance"),
+        detuning_margin=ck.number(table.get("detuning_margin", DEFAULT_MARGIN),
+                                  ("analysis", "detuning_margin"), low=0.0, high=1.0,
+                                  high_open=True, hint="a fraction: write 0.03 for 3 %"))
+    table = ck.table(data.get("output", {}), ("output",), ("fields", "images"))
+    output = Output(fields=ck.boolean(table.get("fields", True), ("output", "fields")),
+                    images=ck.boolean(table.get("images", True), ("output", "images")))
+    return Case(source, title, units, unit, spectrum, parts, presets, custom, probe, grid,
+                analysis, output)
+
+
+def _spectrum(ck: Checker, table) -> Spectrum:
+    ck.table(table, ("spectrum",), ("f_min", "f_max", "loss_at"))
+    f_min = ck.frequency(ck.require(table, "f_min", ("spectrum",)), ("spectrum", "f_min"))
+    f_max = ck.frequency(ck.require(table, "f_max", ("spectrum",)), ("spectrum", "f_max"))
+    if f_min >= f_max:
+        ck.fail(("spectrum", "f_min"), f"f_min ({f_min:g} Hz) must be below f_max ({f_max:g} Hz)")
+    loss_at = ck.frequency(table["loss_at"], ("spectrum", "loss_at")) if "loss_at" in table \
+        else conversion_frequency(f_min, f_max)
+    return Spectrum(f_min, f_max, loss_at)
+
+
+PART_KEYS = ("name", "file", "material", "translate", "rotate", "scale", "mirror", "priority")
+
+
+def _parts(ck: Checker, value, folder: Path, unit: float) -> tuple[Part, ...]:
+    if value is None or value == []:
+        ck.fail(("part",), "the case has no parts; add at least one [[part]] with name, file "
+                "and material")
+    if not isinstance(value, list):
+        ck.fail(("part",), "write each part as its own [[part]] table (double brackets)")
+    parts, seen = [], {}
+    for i, table in enumerate(value):
+        here = ("part", i)
+        if isinstance(table, dict) and isinstance(table.get("name"), str):
+            ck.labels[here] = table["name"]
+        ck.table(table, here, PART_KEYS)
+        name = ck.string(ck.require(table, "name", here), here + ("name",))
+        if name in seen:
+            ck.fail(here + ("name",), f"a part named {name!r} already exists ([[part]] "
+                    f"{seen[name] + 1}); give each part its own name")
+        seen[name] = i
+        parts.append(_part(ck, table, here, name, folder, unit))
+    return tuple(parts)
+
+
+def _part(ck: Checker, table: dict, here: tuple, name: str, folder: Path, unit: float) -> Part:
+    written = ck.string(ck.require(table, "file", here), here + ("file",))
+    file = (folder / Path(written).expanduser()).resolve()
+    if not file.is_file():
+        ck.fail(here + ("file",), f"file {written!r} not found (looked for {file}); paths are "
+                "relative to the case file")
+    material, material_name = _material(ck, ck.require(table, "material", here),
+                                        here + ("material",))
+    translate = tuple(v * unit for v in ck.vector3(table.get("translate", [0, 0, 0]),
+                                                   here + ("translate",)))
+    axis, degrees = (0.0, 0.0, 1.0), 0.0
+    if "rotate" in table:
+        rot = ck.table(table["rotate"], here + ("rotate",), ("axis", "degrees"))
+        axis = ck.vector3(ck.require(rot, "axis", here + ("rotate",)), here + ("rotate", "axis"))
+        if not any(axis):
+            ck.fail(here + ("rotate", "axis"), "the rotation axis must not be [0, 0, 0]")
+        degrees = ck.number(ck.require(rot, "degrees", here + ("rotate",)),
+                            here + ("rotate", "degrees"))
+    scale = ck.positive(table.get("scale", 1.0), here + ("scale",))
+    mirror = ck.choice(table.get("mirror", "none"), here + ("mirror",), ("none",) + AXES)
+    priority = ck.number(table.get("priority", 0), here + ("priority",), integer=True)
+    return Part(name, file, material, material_name, unit, translate, axis, degrees, scale,
+                None if mirror == "none" else mirror, priority)
+
+
+MATERIAL_KEYS = ("name", "eps_r", "loss_tangent", "sigma", "conductor", "at")
+
+
+def _material(ck: Checker, value, here: tuple) -> tuple[Material, str | None]:
+    try:
+        if isinstance(value, str):
+            return get_material(value), value
+        table = ck.table(value, here, MATERIAL_KEYS)
+        conductor = ck.boolean(table.get("conductor", False), here + ("conductor",))
+        lowest = {"eps_r": 1.0, "loss_tangent": 0.0, "sigma": 0.0}
+        values = {key: ck.number(table[key], here + (key,), low=low)
+                  for key, low in lowest.items() if key in table}
+        at = ck.frequency(table["at"], here + ("at",)) if "at" in table else None
+        name = ck.string(table.get("name", "custom"), here + ("name",))
+        if not conductor and "eps_r" not in values:
+            ck.fail(here, "a dielectric needs eps_r (or set conductor = true)")
+        return Material(name, frequency_hz=at, is_conductor=conductor, **values), None
+    except RingprintError as exc:
+        if str(exc).startswith(f"{ck.file}:"):
+            raise
+        ck.fail(here, str(exc))
+
+
+def _bands(ck: Checker, data: dict) -> tuple[tuple[str, ...], tuple[Band, ...]]:
+    names = data.get("bands", [])
+    if not isinstance(names, list):
+        ck.fail(("bands",), "expected a list of preset names, e.g. [\"lte-b7\", \"gps-l1\"]")
+    taken: set[str] = set()
+    for i, name in enumerate(names):
+        ck.string(name, ("bands", i))
+        try:
+            taken.update(b.name for b in preset_bands(name))
+        except RingprintError as exc:
+            ck.fail(("bands", i), str(exc))
+    custom = data.get("band", [])
+    if not isinstance(custom, list):
+        ck.fail(("band",), "write each custom band as its own [[band]] table (double brackets)")
+    bands = []
+    for i, table in enumerate(custom):
+        here = ("band", i)
+        ck.table(table, here, ("name", "low", "high", "source"))
+        name = ck.string(ck.require(table, "name", here), here + ("name",))
+        if name in taken:
+            ck.fail(here + ("name",), f"a band named {name!r} is already selected; rename it")
+        taken.add(name)
+        low = ck.frequency(ck.require(table, "low", here), here + ("low",))
+        high = ck.frequency(ck.require(table, "high", here), here + ("high",))
+        if low >= high:
+            ck.fail(here + ("low",), f"low ({low:g} Hz) must be below high ({high:g} Hz)")
+        source = ck.string(table.get("source", "case file"), here + ("source",))
+        bands.append(Band(name, low, high, source))
+    return tuple(names), tuple(bands)
+
+
+def _grid(ck: Checker, table, spectrum: Spectrum, unit: float) -> Grid:
+    ck.table(table, ("grid",), ("cells_per_wavelength", "padding", "absorber_cells"))
+    cells = ck.number(table.get("cells_per_wavelength", 20), ("grid", "cells_per_wavelength"),
+                      low=4.0, hint="fewer than 4 cells per wavelength cannot carry a wave "
+                      "(10-20 is common practice)")
+    centre = math.sqrt(spectrum.f_min_hz * spectrum.f_max_hz)
+    padding = ck.positive(table["padding"], ("grid", "padding")) * unit if "padding" in table \
+        else C0 / (2 * math.pi * centre)
+    absorber = ck.number(table.get("absorber_cells", 10), ("grid", "absorber_cells"),
+                         low=4, integer=True, hint="4-16 cells is common practice")
+    return Grid(float(cells), padding, absorber)
+
+
+def _probe(ck: Checker, table, spectrum: Spectrum, grid: Grid, unit: float) -> Probe:
+    ck.table(table, ("probe",), ("at", "normal", "size"))
+    at = ck.vector3(ck.require(table, "at", ("probe",)), ("probe", "at"))
+    normal = ck.choice(ck.require(table, "normal", ("probe",)), ("probe", "normal"), AXES)
+    size = ck.positive(table["size"], ("probe", "size")) * unit if "size" in table \
+        else 2 * C0 / (spectrum.f_max_hz * grid.cells_per_wavelength)
+    return Probe(tuple(v * unit for v in at), normal, size)
