@@ -1,6 +1,8 @@
 """STEP/IGES bodies tessellated by gmsh's OpenCASCADE kernel (private)."""
 
+import contextlib
 import os
+import sys
 
 import numpy as np
 
@@ -10,6 +12,30 @@ from ringprint.meshing.surface import Surface
 #: Segments per full turn of a curved face (gmsh Mesh.MeshSizeFromCurvature). With
 #: N segments the chord error is R (1 - cos(pi/N)) ~ 0.0086 R for N = 24.
 SEGMENTS_PER_TURN = 24
+
+
+@contextlib.contextmanager
+def quiet_stdio():
+    """Silence file descriptors 1 and 2 (the CAD kernel prints to them directly,
+    bypassing gmsh's General.Terminal switch)."""
+    for stream in (sys.stdout, sys.stderr):
+        with contextlib.suppress(Exception):
+            stream.flush()
+    saved = []
+    try:
+        null = os.open(os.devnull, os.O_WRONLY)
+        for fd in (1, 2):
+            saved.append((fd, os.dup(fd)))
+            os.dup2(null, fd)
+        os.close(null)
+    except OSError:  # no real descriptors (embedded interpreter): nothing to silence
+        pass
+    try:
+        yield
+    finally:
+        for fd, copy in saved:
+            os.dup2(copy, fd)
+            os.close(copy)
 
 
 def read_cad(path, cell_size=None):
@@ -36,8 +62,9 @@ def read_cad(path, cell_size=None):
         gmsh.option.setString("Geometry.OCCTargetUnit", "M")
         gmsh.model.add("ringprint-import")
         try:
-            gmsh.model.occ.importShapes(path)
-            gmsh.model.occ.synchronize()
+            with quiet_stdio():
+                gmsh.model.occ.importShapes(path)
+                gmsh.model.occ.synchronize()
         except Exception as exc:
             detail = " ".join(str(exc).split())[:120]
             raise RingprintError(f"{path}: cannot be read as CAD ({detail}); check it is a complete "
@@ -53,7 +80,8 @@ def read_cad(path, cell_size=None):
         gmsh.option.setNumber("Mesh.MeshSizeMax", size)
         gmsh.option.setNumber("Mesh.MeshSizeMin", 0.0)
         gmsh.option.setNumber("Mesh.MeshSizeFromCurvature", SEGMENTS_PER_TURN)
-        gmsh.model.mesh.generate(2)
+        with quiet_stdio():
+            gmsh.model.mesh.generate(2)
         tags, coords, _ = gmsh.model.mesh.getNodes()
         index = np.full(int(tags.max()) + 1, -1, np.int64)
         index[tags.astype(np.int64)] = np.arange(len(tags))

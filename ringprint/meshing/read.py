@@ -61,9 +61,10 @@ def read_surfaces(path, cell_size=None):
     return _from_meshio(path, _meshio_read(path))
 
 
-def _meshio_read(path, file_format=None):
+def _meshio_read(path, file_format=None, label=None):
     import meshio
 
+    label = label or path
     try:
         with warnings.catch_warnings():
             warnings.simplefilter("ignore")
@@ -71,7 +72,7 @@ def _meshio_read(path, file_format=None):
     except Exception as exc:  # meshio raises many types for bad bytes
         kind = os.path.splitext(path)[1].lstrip(".").upper()
         detail = " ".join(str(exc).split())[:120]
-        raise RingprintError(f"{path}: cannot be read as a {kind} mesh ({type(exc).__name__}: "
+        raise RingprintError(f"{label}: cannot be read as a {kind} mesh ({type(exc).__name__}: "
                              f"{detail}); check the file is complete and re-export it") from None
 
 
@@ -107,7 +108,7 @@ def _read_stl(path):
             part = os.path.join(tmp, "part.stl")
             with open(part, "w") as fh:
                 fh.write(f"solid x\n{body}\nendsolid x\n")
-            mesh = _meshio_read(part, "stl")
+            mesh = _meshio_read(part, "stl", label=f"{path} (solid {name.strip()!r})")
         label = name.strip() or (stem if len(blocks) == 1 else f"{stem}:{k}")
         surfaces += _from_meshio(path, mesh, default_name=label)
     return surfaces
