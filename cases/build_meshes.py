@@ -43,11 +43,9 @@ def _rounded_box(x0, y0, z0, dx, dy, dz, radius, vertical_only=False):
     occ = gmsh.model.occ
     box = occ.addBox(x0, y0, z0, dx, dy, dz)
     occ.synchronize()
-    edges = gmsh.model.getBoundary([(3, box)], combined=False, oriented=False, recursive=False)
-    curves = set()
-    for _, face in edges:
-        for dim, c in gmsh.model.getBoundary([(2, face)], combined=False, oriented=False):
-            curves.add(abs(c))
+    faces = gmsh.model.getBoundary([(3, box)], combined=False, oriented=False)
+    curves = {abs(c) for face in faces
+              for _, c in gmsh.model.getBoundary([face], combined=False, oriented=False)}
     if vertical_only:
         vertical = []
         for c in sorted(curves):
