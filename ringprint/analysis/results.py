@@ -177,9 +177,13 @@ def _check_hazard(hazard, k: int, modes):
         _fail(f"{p}.mode", f"is {m!r}", f"give a mode index between 1 and {len(modes)}")
     if hazard["status"] not in ("inside", "near"):
         _fail(f"{p}.status", f"is {hazard['status']!r}", "list only 'inside' or 'near' hazards")
-    if hazard["band"] not in {e["band"] for e in modes[m - 1]["bands"]}:
+    entry = next((e for e in modes[m - 1]["bands"] if e["band"] == hazard["band"]), None)
+    if entry is None:
         _fail(f"{p}.band", f"'{hazard['band']}' is not among mode {m}'s bands",
               "list hazards that match an entry of that mode's 'bands'")
+    if entry["status"] != hazard["status"]:
+        _fail(f"{p}.status", f"is '{hazard['status']}' but mode {m}'s entry for "
+              f"'{hazard['band']}' says '{entry['status']}'", "make the two agree")
     _number(hazard["distance_percent"], f"{p}.distance_percent")
     r = hazard["rank"]
     if isinstance(r, bool) or not isinstance(r, int) or r < 1:
