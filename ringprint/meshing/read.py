@@ -2,7 +2,6 @@
 
 import os
 import re
-import tempfile
 import warnings
 
 import numpy as np
@@ -101,16 +100,23 @@ def _read_stl(path):
     if not blocks:
         raise RingprintError(f"{path}: ASCII STL without a complete 'solid ... endsolid' block; "
                              "the file is truncated, export it again")
+    # meshio's ASCII reader needs the strict 7-lines-per-facet layout and one solid;
+    # exporters vary (blank lines, several named solids), so take the vertices here.
     stem = os.path.splitext(os.path.basename(path))[0]
     surfaces = []
     for k, (name, body) in enumerate(blocks):
-        with tempfile.TemporaryDirectory() as tmp:
-            part = os.path.join(tmp, "part.stl")
-            with open(part, "w") as fh:
-                fh.write(f"solid x\n{body}\nendsolid x\n")
-            mesh = _meshio_read(part, "stl", label=f"{path} (solid {name.strip()!r})")
+        words = re.findall(r"\bvertex\s+(\S+)\s+(\S+)\s+(\S+)", body, flags=re.I)
+        try:
+            pts = np.array(words, dtype=np.float64).reshape(-1, 3)
+        except ValueError:
+            raise RingprintError(f"{path}: ASCII STL solid {name.strip()!r} has a vertex that is not "
+                                 "three numbers; export the file again") from None
+        if len(pts) % 3:
+            raise RingprintError(f"{path}: ASCII STL solid {name.strip()!r} has {len(pts)} vertices, "
+                                 "not a multiple of 3; the file is truncated, export it again")
         label = name.strip() or (stem if len(blocks) == 1 else f"{stem}:{k}")
-        surfaces += _from_meshio(path, mesh, default_name=label)
+        surfaces.append(Surface(name=label, vertices=pts,
+                                faces=np.arange(len(pts), dtype=np.int64).reshape(-1, 3), source=path))
     return surfaces
 
 
