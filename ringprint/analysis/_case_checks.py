@@ -32,6 +32,11 @@ class Checker:
         self.labels: dict[tuple, str] = {}   # ("part", 1) -> the part's name, for messages
 
     # -- messages ---------------------------------------------------------------
+    def label(self, path: tuple, table) -> None:
+        """Remember the name of an array-of-tables element for later messages."""
+        if isinstance(table, dict) and isinstance(table.get("name"), str):
+            self.labels[path] = table["name"]
+
     def where(self, path: tuple) -> str:
         path = tuple(path)
         head, rest = "", path
@@ -49,7 +54,7 @@ class Checker:
         items = [k + 1 for k in rest if isinstance(k, int)]
         text = f"key {'.'.join(keys)!r}" if keys else ""
         text += "".join(f" item {i}" for i in items)
-        return " ".join(t for t in (head, text) if t) or "file"
+        return " ".join(t for t in (head, text) if t) or "top level"
 
     def fail(self, path: tuple, problem: str) -> NoReturn:
         raise RingprintError(f"{self.file}:{self.lines.line(path)}: {self.where(path)}: {problem}")

@@ -277,8 +277,7 @@ def _parts(ck: Checker, value, folder: Path, unit: float) -> tuple[Part, ...]:
     parts, seen = [], {}
     for i, table in enumerate(value):
         here = ("part", i)
-        if isinstance(table, dict) and isinstance(table.get("name"), str):
-            ck.labels[here] = table["name"]
+        ck.label(here, table)
         ck.table(table, here, PART_KEYS)
         name = ck.string(ck.require(table, "name", here), here + ("name",))
         if name in seen:
@@ -354,6 +353,7 @@ def _bands(ck: Checker, data: dict) -> tuple[tuple[str, ...], tuple[Band, ...]]:
     bands = []
     for i, table in enumerate(custom):
         here = ("band", i)
+        ck.label(here, table)
         ck.table(table, here, ("name", "low", "high", "source"))
         name = ck.string(ck.require(table, "name", here), here + ("name",))
         if name in taken:

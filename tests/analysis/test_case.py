@@ -1,0 +1,307 @@
+"""Tests of the case file reader (ringprint.analysis.case).
+
+The bad-case corpus lives in tests/corpus/cases/: one file per defect, each with
+``# defect:`` (what it tests), ``# expect-line:`` and ``# expect:`` comments.
+"""
+
+from __future__ import annotations
+
+import dataclasses
+import math
+import re
+import shutil
+import tomllib
+from pathlib import Path
+
+import numpy as np
+import pytest
+from hypothesis import given, strategies as st
+from scipy.constants import c as C0, epsilon_0
+
+from ringprint.analysis._toml_lines import KeyLines
+from ringprint.analysis._units import format_frequency, parse_frequency
+from ringprint.analysis.case import load_case
+from ringprint.analysis.materials import dielectric_q
+from ringprint.errors import RingprintError
+
+CORPUS = Path(__file__).resolve().parents[1] / "corpus" / "cases"
+BAD_CASES = sorted(CORPUS.glob("*.toml"))
+
+EXAMPLE = """\
+title = "Asset tag, 2.4 GHz radio and GNSS"
+units = "mm"
+bands = ["lte-b7", "gps-l1"]
+
+[spectrum]
+f_min = "0.6 GHz"
+f_max = "6 GHz"
+
+[[part]]
+name = "ground plane"
+file = "tag/pcb_ground.stl"
+material = "pec"
+
+[[part]]
+name = "housing"
+file = "tag/housing.step"
+material = { eps_r = 3.0, loss_tangent = 0.01 }
+translate = [1.0, -2.0, 0.5]
+rotate = { axis = [0, 0, 1], degrees = 90 }
+scale = 2.0
+mirror = "x"
+priority = 3
+
+[[band]]
+name = "telemetry"
+low = "2.30 GHz"
+high = 2.32e9
+
+[probe]
+at = [12.0, 4.0, 3.5]
+normal = "z"
+size = 2.0
+
+[grid]
+cells_per_wavelength = 20
+padding = 15.0
+
+[analysis]
+q_max = 200
+"""
+
+
+def write_case(folder: Path, text: str = EXAMPLE, name: str = "case.toml") -> Path:
+    (folder / "tag").mkdir(parents=True, exist_ok=True)
+    (folder / "tag" / "pcb_ground.stl").write_text("solid ground\nendsolid ground\n")
+    (folder / "tag" / "housing.step").write_text("ISO-10303-21;\n")
+    path = folder / name
+    path.write_text(text)
+    return path
+
+
+def minimal(extra: str = "", units: str = "mm") -> str:
+    return (f'units = "{units}"\n[spectrum]\nf_min = "1 GHz"\nf_max = "4 GHz"\n'
+            '[[part]]\nname = "p"\nfile = "tag/pcb_ground.stl"\nmaterial = "pec"\n' + extra)
+
+
+# -- the bad-case corpus ------------------------------------------------------
+
+def _expectations(path: Path) -> tuple[str, int, str]:
+    text = path.read_text()
+    defect = re.search(r"^# defect: (.+)$", text, re.M)
+    line = re.search(r"^# expect-line: (\d+)$", text, re.M)
+    expect = re.search(r"^# expect: (.+)$", text, re.M)
+    assert defect and line and expect, f"{path.name} lacks its # defect/expect comments"
+    return defect.group(1), int(line.group(1)), expect.group(1)
+
+
+def test_corpus_is_populated():
+    assert len(BAD_CASES) >= 30
+
+
+@pytest.mark.parametrize("path", BAD_CASES, ids=[p.stem for p in BAD_CASES])
+def test_bad_case_names_file_line_and_key(path: Path):
+    _, line, expect = _expectations(path)
+    with pytest.raises(RingprintError) as info:
+        load_case(str(path))
+    message = str(info.value)
+    assert "\n" not in message
+    assert message.startswith(f"{path}:{line}:"), message
+    assert expect in message, message
+
+
+def test_syntax_error_gives_column():
+    path = CORPUS / "syntax_error.toml"
+    with pytest.raises(RingprintError, match=rf"^{re.escape(str(path))}:4:7: not valid TOML"):
+        load_case(path)
+
+
+def test_unterminated_string_at_end(tmp_path):
+    path = tmp_path / "c.toml"
+    path.write_text('units = "mm\n')
+    with pytest.raises(RingprintError, match="not valid TOML"):
+        load_case(path)
+
+
+def test_missing_case_file(tmp_path):
+    with pytest.raises(RingprintError, match="case file not found"):
+        load_case(tmp_path / "nope.toml")
+
+
+# -- a good case, SI inside ---------------------------------------------------
+
+def test_example_case_in_si(tmp_path):
+    case = load_case(write_case(tmp_path))
+    assert case.source == (tmp_path / "case.toml").resolve()
+    assert case.title.startswith("Asset tag")
+    assert case.unit_m == 1e-3
+    assert case.spectrum.f_min_hz == 0.6e9 and case.spectrum.f_max_hz == 6e9
+    # default loss conversion frequency: the geometric centre
+    assert case.spectrum.loss_at_hz == pytest.approx(math.sqrt(0.6e9 * 6e9), rel=1e-15)
+    ground, housing = case.parts
+    assert ground.material.is_pec and ground.material_name == "pec"
+    assert ground.file == (tmp_path / "tag" / "pcb_ground.stl").resolve() and ground.file.is_absolute()
+    assert housing.translate_m == pytest.approx((1e-3, -2e-3, 0.5e-3), rel=1e-15)
+    assert (housing.scale, housing.mirror, housing.priority) == (2.0, "x", 3)
+    assert case.probe.at_m == pytest.approx((0.012, 0.004, 0.0035), rel=1e-15)
+    assert case.probe.size_m == pytest.approx(0.002) and case.probe.normal == "z"
+    assert case.grid.padding_m == pytest.approx(0.015) and case.grid.cells_per_wavelength == 20
+    assert case.analysis.q_max == 200 and case.analysis.detuning_margin == 0.03
+    assert [b.name for b in case.bands] == ["lte-b7-ul", "lte-b7-dl", "gps-l1", "telemetry"]
+    assert case.custom_bands[0].low_hz == 2.30e9 and case.custom_bands[0].high_hz == 2.32e9
+    with pytest.raises(dataclasses.FrozenInstanceError):
+        case.title = "x"
+
+
+def test_defaults(tmp_path):
+    case = load_case(write_case(tmp_path, minimal()))
+    assert case.title == "case"
+    assert case.probe is None
+    assert case.bands == ()
+    assert case.analysis.q_max == 200 and case.analysis.detuning_margin == 0.03
+    assert case.grid.cells_per_wavelength == 20 and case.grid.absorber_cells == 10
+    # padding default: the radiansphere radius lambda/(2 pi) at sqrt(f_min f_max) (Wheeler 1947)
+    assert case.grid.padding_m == pytest.approx(C0 / (2 * math.pi * 2e9), rel=1e-12)
+    assert case.output.fields and case.output.images
+    # probe size default: two air cells at f_max
+    case = load_case(write_case(tmp_path, minimal('[probe]\nat = [0, 0, 0]\nnormal = "y"\n')))
+    assert case.probe.size_m == pytest.approx(2 * C0 / (4e9 * 20), rel=1e-12)
+
+
+@pytest.mark.parametrize("units, metres", [("m", 1.0), ("cm", 0.01), ("mm", 1e-3), ("um", 1e-6),
+                                           ("in", 0.0254), ("mil", 0.0000254)])
+def test_length_units(tmp_path, units, metres):
+    """1 in = 25.4 mm exactly and 1 mil = 1/1000 in (NIST SP 811, appendix B)."""
+    case = load_case(write_case(tmp_path, minimal('[grid]\npadding = 3.0\n', units)))
+    assert case.grid.padding_m == pytest.approx(3.0 * metres, rel=1e-15)
+    assert case.parts[0].file_unit_m == metres
+
+
+@pytest.mark.parametrize("text, hz", [("600MHz", 600e6), ("0.6 GHz", 600e6), ("2.4 ghz", 2.4e9),
+                                      ("433.92e6 Hz", 433.92e6), ("13560 kHz", 13.56e6),
+                                      (2.4e9, 2.4e9), (50, 50.0), ("1e9", 1e9)])
+def test_frequency_forms(text, hz):
+    assert parse_frequency(text) == pytest.approx(hz, rel=1e-15)
+
+
+@given(st.floats(min_value=1.0, max_value=1e12, allow_nan=False))
+def test_frequency_format_round_trips(hz):
+    text = format_frequency(hz)
+    assert parse_frequency(text) == hz
+
+
+def test_material_loss_is_exact_at_loss_at(tmp_path):
+    """Q_d = 1/tan_d at the conversion frequency (Pozar 2012, sec. 6.7)."""
+    text = minimal().replace('material = "pec"', 'material = { eps_r = 3.0, loss_tangent = 0.01 }')
+    case = load_case(write_case(tmp_path, text + '\n'))
+    eps_r, sigma, pec = case.medium(case.parts[0])
+    assert not pec and eps_r == 3.0
+    f0 = case.spectrum.loss_at_hz
+    assert sigma == pytest.approx(2 * math.pi * f0 * epsilon_0 * 3.0 * 0.01, rel=1e-14)
+    assert dielectric_q(sigma, eps_r, f0) == pytest.approx(100.0, rel=1e-12)
+
+
+def test_sigma_material_and_library_names(tmp_path):
+    text = minimal().replace('material = "pec"', 'material = { eps_r = 4.0, sigma = 0.002 }')
+    text += '[[part]]\nname = "q"\nfile = "tag/housing.step"\nmaterial = "FR4"\n'
+    text += '[[part]]\nname = "r"\nfile = "tag/housing.step"\nmaterial = { conductor = true, sigma = 5.8e7 }\n'
+    case = load_case(write_case(tmp_path, text))
+    assert case.medium(case.parts[0]) == (4.0, 0.002, False)
+    assert case.parts[1].material.name == "fr4" and case.parts[1].material_name == "FR4"
+    assert case.medium(case.parts[2]) == (1.0, 0.0, True)   # finite metals are PEC today
+
+
+def test_part_matrix_order(tmp_path):
+    """scale, then mirror, then rotate about the origin, then translate."""
+    case = load_case(write_case(tmp_path))
+    housing = case.parts[1]
+    p = np.array([1.0, 2.0, 3.0])                    # a mesh vertex, in mm
+    q = p * 2.0 * 1e-3                               # scaled, in metres
+    q[0] = -q[0]                                     # mirrored in x
+    q = np.array([-q[1], q[0], q[2]])                # +90 degrees about z
+    q += [1e-3, -2e-3, 0.5e-3]
+    got = housing.matrix() @ np.append(p, 1.0)
+    np.testing.assert_allclose(got[:3], q, rtol=0, atol=1e-15)
+
+
+def test_resolved_toml_round_trip(tmp_path):
+    case = load_case(write_case(tmp_path))
+    text = case.resolved_toml()
+    data = tomllib.loads(text)
+    assert data["grid"]["padding"] == 15.0 and data["units"] == "mm"
+    assert data["part"][1]["material"] == {"name": "custom", "eps_r": 3.0, "loss_tangent": 0.01}
+    assert data["analysis"]["detuning_margin"] == 0.03
+    again = tmp_path / "elsewhere" / "case.resolved.toml"
+    again.parent.mkdir()
+    again.write_text(text)
+    back = load_case(again)
+    assert back.resolved() == case.resolved()
+    assert back.digest() == case.digest()
+
+
+def test_resolved_fills_library_values(tmp_path):
+    text = minimal().replace('material = "pec"', 'material = "abs"')
+    case = load_case(write_case(tmp_path, text))
+    material = case.resolved()["part"][0]["material"]
+    assert material["eps_r"] == 2.8 and material["loss_tangent"] == 0.005 and material["at"] == "1.0 GHz"
+    assert "padding" in case.resolved()["grid"] and "loss_at" in case.resolved()["spectrum"]
+
+
+def test_digest_tracks_what_changes_the_run(tmp_path):
+    path = write_case(tmp_path)
+    base = load_case(path).digest()
+    assert base == load_case(path).digest() and re.fullmatch(r"[0-9a-f]{64}", base)
+    # the title, bands and output switches do not change the simulated fields
+    path.write_text(EXAMPLE.replace("Asset tag", "Another tag").replace('"lte-b7", ', "")
+                    + "[output]\nimages = false\n")
+    assert load_case(path).digest() == base
+    # moving the whole case folder does not either
+    moved = tmp_path.parent / (tmp_path.name + "-moved")
+    shutil.copytree(tmp_path, moved)
+    assert load_case(moved / "case.toml").digest() == base
+    # a changed mesh file, material or padding does
+    (tmp_path / "tag" / "housing.step").write_text("ISO-10303-21; changed\n")
+    changed = load_case(path).digest()
+    assert changed != base
+    path.write_text(EXAMPLE.replace("padding = 15.0", "padding = 16.0"))
+    assert load_case(path).digest() not in (base, changed)
+
+
+def test_error_message_shape(tmp_path):
+    path = write_case(tmp_path, minimal().replace('name = "p"', 'name = "p"\nfiel = "x"'))
+    with pytest.raises(RingprintError) as info:
+        load_case(path)
+    assert str(info.value) == (f"{path}:7: [[part]] 1 ('p') key 'fiel': unknown key; "
+                               "did you mean 'file'?")
+
+
+# -- the line finder ----------------------------------------------------------
+
+def test_key_lines_heuristic():
+    text = (
+        'title = "a = b # not a comment"\n'    # 1
+        "units = 'mm'  # comment\n"            # 2
+        "[spectrum]\n"                         # 3
+        "f_min = 1\n"                          # 4
+        "[[part]]\n"                           # 5
+        "translate = [1,\n"                    # 6
+        "  2, # x = 1\n"                       # 7
+        "  3]\n"                               # 8
+        'notes = """\n'                        # 9
+        "fake = 1\n"                           # 10
+        '"""\n'                                # 11
+        "material = { eps_r = 3 }\n"           # 12
+        "[[part]]\n"                           # 13
+        '"quoted key" = 2\n'                   # 14
+        "a.b = 4\n"                            # 15
+    )
+    tomllib.loads(text)  # the fixture is valid TOML
+    lines = KeyLines(text)
+    assert lines.line(("title",)) == 1 and lines.line(("units",)) == 2
+    assert lines.line(("spectrum", "f_min")) == 4 and lines.line(("spectrum",)) == 3
+    assert lines.line(("part", 0, "translate", 2)) == 6
+    assert lines.line(("part", 0, "fake")) == 5        # inside a string: not a key
+    assert lines.line(("part", 0, "material", "eps_r")) == 12
+    assert lines.line(("part", 1, "quoted key")) == 14
+    assert lines.line(("part", 1, "a", "b")) == 15
+    assert lines.line(("part", 1)) == 13 and lines.line(("nothing",)) == 1
