@@ -1,0 +1,127 @@
+"""Tests of the material library and the loss conversion (ringprint.analysis.materials)."""
+
+from __future__ import annotations
+
+import math
+
+import numpy as np
+import pytest
+from hypothesis import given, strategies as st
+from scipy.constants import epsilon_0
+
+from ringprint.analysis.materials import (Material, conversion_frequency, dielectric_q,
+                                          get_material, library, loss_tangent_to_sigma,
+                                          sigma_to_loss_tangent)
+from ringprint.errors import RingprintError
+
+REQUIRED = ["pec", "copper", "aluminium", "stainless-steel", "air", "fr4", "ptfe-ceramic-laminate",
+            "abs", "pc", "pc-abs", "pa66", "lcp", "ptfe", "alumina", "soda-lime-glass",
+            "aluminosilicate-glass", "polyimide", "water", "battery-pouch"]
+
+
+def test_library_has_the_common_materials():
+    lib = library()
+    for name in REQUIRED:
+        assert name in lib, name
+
+
+def test_every_entry_states_its_source_and_frequency():
+    for name, m in library().items():
+        assert m.source, f"{name} has no source"
+        if not m.is_conductor:
+            assert m.frequency_hz and m.frequency_hz > 0, f"{name}: no frequency for its values"
+            assert m.loss_tangent is not None and m.eps_r >= 1.0
+    # values recalled from memory say so
+    assert "from memory" in get_material("fr4").source
+
+
+def test_conductors_are_perfect_today():
+    for name in ("pec", "copper", "aluminium", "stainless-steel", "battery-pouch"):
+        m = get_material(name)
+        assert m.is_conductor and m.is_pec
+        assert m.conductivity(1e9) == math.inf
+    assert get_material("pec").sigma is None
+
+
+def test_copper_is_the_annealed_copper_standard():
+    """IACS: 100 % conductivity is a resistivity of 1/58 ohm mm^2/m = 1.7241e-8 ohm m."""
+    assert get_material("copper").sigma == pytest.approx(1 / 1.7241e-8, rel=1e-3)
+
+
+def test_lookup_aliases_case_and_suggestions():
+    assert get_material("Aluminum") is get_material("aluminium")
+    assert get_material(" FR-4 ") is get_material("fr4")
+    with pytest.raises(RingprintError, match=r"unknown material 'alumnium'; did you mean .*'aluminium'"):
+        get_material("alumnium")
+
+
+def test_q_d_is_inverse_loss_tangent_at_the_conversion_frequency():
+    """A filled cavity of loss tangent tan_d has Q_d = 1/tan_d (Pozar 2012, sec. 6.7);
+    with a frequency-independent sigma that holds at the conversion frequency only."""
+    f_min, f_max = 0.6e9, 6e9
+    fc = conversion_frequency(f_min, f_max)
+    assert fc == pytest.approx(math.sqrt(f_min * f_max), rel=1e-15)
+    for name in ("fr4", "abs", "alumina", "water", "ptfe"):
+        m = get_material(name)
+        sigma = m.conductivity(fc)
+        assert dielectric_q(sigma, m.eps_r, fc) == pytest.approx(1 / m.loss_tangent, rel=1e-12)
+        # away from fc, Q_d = omega eps / sigma scales with f: the same factor at both ends
+        q_lo = dielectric_q(sigma, m.eps_r, f_min) * m.loss_tangent
+        q_hi = dielectric_q(sigma, m.eps_r, f_max) * m.loss_tangent
+        assert q_lo == pytest.approx(f_min / fc, rel=1e-12)
+        assert q_hi == pytest.approx(f_max / fc, rel=1e-12)
+        assert q_lo * q_hi == pytest.approx(1.0, rel=1e-12)
+
+
+@given(st.floats(1.0, 100.0), st.floats(1e-5, 0.5), st.floats(1e6, 1e11))
+def test_conversion_matches_complex_permittivity(eps_r, tan_d, f):
+    """eps_c = eps0 eps_r - j sigma / omega has -Im/Re = tan_d (Pozar 2012, eq. 1.58)."""
+    sigma = float(loss_tangent_to_sigma(tan_d, eps_r, f))
+    eps_c = epsilon_0 * eps_r - 1j * sigma / (2 * np.pi * f)
+    assert -eps_c.imag / eps_c.real == pytest.approx(tan_d, rel=1e-12)
+    assert float(sigma_to_loss_tangent(sigma, eps_r, f)) == pytest.approx(tan_d, rel=1e-12)
+
+
+def test_conversion_is_vectorized():
+    sig = loss_tangent_to_sigma(np.array([0.01, 0.02]), np.array([3.0, 4.0]), 1e9)
+    assert sig.shape == (2,) and sig[1] / sig[0] == pytest.approx(8 / 3)
+    assert dielectric_q(0.0, 3.0, 1e9) == math.inf
+
+
+def test_water_matches_the_debye_model():
+    """Debye relaxation of water at 25 C, eps = eps_inf + (eps_s - eps_inf)/(1 + j w tau),
+    with eps_s = 78.36, eps_inf = 5.2, tau = 8.27 ps (Kaatze 1989; parameters from memory)."""
+    m = get_material("water")
+    w = 2 * np.pi * m.frequency_hz
+    eps = 5.2 + (78.36 - 5.2) / (1 + 1j * w * 8.27e-12)
+    assert m.eps_r == pytest.approx(eps.real, rel=5e-3)
+    assert m.loss_tangent == pytest.approx(-eps.imag / eps.real, rel=1e-2)
+
+
+def test_material_given_with_sigma():
+    m = Material("gel", eps_r=40.0, sigma=0.5)
+    assert m.conductivity(1e9) == 0.5 and m.conductivity(5e9) == 0.5
+    assert Material("lossless", eps_r=2.0).conductivity(1e9) == 0.0
+
+
+@pytest.mark.parametrize("kwargs, match", [
+    ({"eps_r": 0.5}, "eps_r must be a finite number >= 1"),
+    ({"eps_r": float("nan")}, "eps_r must be a finite number >= 1"),
+    ({"eps_r": 3.0, "loss_tangent": -0.1}, "loss_tangent must be finite and >= 0"),
+    ({"eps_r": 3.0, "sigma": -1.0}, r"sigma \(S/m\) must be finite and >= 0"),
+    ({"eps_r": 3.0, "loss_tangent": 0.01, "sigma": 1.0}, "either loss_tangent or sigma, not both"),
+    ({"eps_r": 3.0, "is_conductor": True}, "a conductor takes no eps_r or loss_tangent"),
+    ({"eps_r": 3.0, "frequency_hz": 0.0}, "must be > 0"),
+])
+def test_material_validation(kwargs, match):
+    with pytest.raises(RingprintError, match=match):
+        Material("m", **kwargs)
+
+
+def test_conversion_inputs_are_checked():
+    with pytest.raises(RingprintError, match="need 0 < f_min < f_max"):
+        conversion_frequency(2e9, 1e9)
+    with pytest.raises(RingprintError, match="frequency_hz must be finite and > 0"):
+        loss_tangent_to_sigma(0.01, 3.0, 0.0)
+    with pytest.raises(RingprintError, match="loss_tangent must be >= 0"):
+        loss_tangent_to_sigma(-0.01, 3.0, 1e9)
