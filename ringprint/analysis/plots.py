@@ -173,6 +173,17 @@ def _band_limits(bands: Sequence[Mapping]) -> list[tuple[str, float, float]]:
     return [(str(b["name"]), float(b["low_hz"]), float(b["high_hz"])) for b in bands]
 
 
+def _default_limits(freq: np.ndarray, modes, bands) -> tuple[float, float]:
+    """The modes and bands with 20 % room on each side, within the spectrum's span;
+    the whole span when there is neither."""
+    marks = [float(m["frequency_hz"]) for m in modes]
+    marks += [float(b[k]) for b in bands for k in ("low_hz", "high_hz")]
+    if not marks:
+        return float(freq[0]), float(freq[-1])
+    lo, hi = max(0.8 * min(marks), float(freq[0])), min(1.2 * max(marks), float(freq[-1]))
+    return (lo, hi) if hi > lo else (float(freq[0]), float(freq[-1]))
+
+
 def _worst_status(mode: Mapping) -> str:
     statuses = {entry.get("status") for entry in mode.get("bands", [])}
     for status in ("inside", "near"):
@@ -197,7 +208,8 @@ def render_spectrum_png(freq_hz, mag_db, modes: Sequence[Mapping] = (),
     bands : sequence of dict
         Bands ``{"name", "low_hz", "high_hz", ...}``, drawn as hatched shading.
     limits_hz : (float, float), optional
-        Frequency axis limits; default: the span of ``freq_hz``.
+        Frequency axis limits; default: the modes and bands with 20 % room on each
+        side (within the span of ``freq_hz``), or that whole span if there are none.
     title : str
         Plot title.
     dpi : int
@@ -215,7 +227,10 @@ def render_spectrum_png(freq_hz, mag_db, modes: Sequence[Mapping] = (),
 
     freq = np.asarray(freq_hz, dtype=np.float64)
     mag = np.asarray(mag_db, dtype=np.float64)
-    lo, hi = (float(freq[0]), float(freq[-1])) if limits_hz is None else map(float, limits_hz)
+    if limits_hz is None:
+        lo, hi = _default_limits(freq, modes, bands)
+    else:
+        lo, hi = map(float, limits_hz)
     if not hi > lo:
         raise RingprintError(f"spectrum limits {lo!r}..{hi!r} Hz are empty; give low < high")
     scale, unit = frequency_unit(hi)

@@ -1,12 +1,9 @@
 """The results of ``ringprint run``: modes.json, modes.csv, spectrum.png, report.html, run.log.
 
 :func:`write_results` writes them all into one output directory; each file appears
-only when complete (:mod:`ringprint.analysis.outputs`). The pieces are
-:func:`~ringprint.analysis.results.write_json`,
-:func:`~ringprint.analysis.results.write_csv`,
-:func:`~ringprint.analysis.plots.write_spectrum_png`, :func:`write_report_html` and
-:func:`~ringprint.analysis.outputs.write_run_log`;
-:func:`~ringprint.analysis.results.format_summary_table` gives the terminal table.
+only when complete (:mod:`ringprint.analysis.outputs`). The pieces (re-exported here):
+``write_json``, ``write_csv``, ``write_spectrum_png``, :func:`write_report_html`,
+``write_run_log``; ``format_summary_table`` gives the terminal table.
 
 Data model
 ----------
@@ -21,7 +18,8 @@ when absent, and ``"bands"`` -- the band list -- when absent)::
               "title": str, optional (default: the name)
               "file": str, optional (path of the case file)
               "parts": [{"name": str, "material": str, ...}, ...], optional
-              "spectrum": {"low_hz": float, "high_hz": float}, optional
+              "spectrum": {"f_min_hz": float, "f_max_hz": float}, optional
+                          (the analysed span; also the plot's frequency axis)
               ...any other keys}
     "grid":  dict, shown key by key; the keys the report labels are
              "nodes": [Nx, Ny, Nz], "cells": int, "step_min_m": float,
@@ -103,10 +101,9 @@ SAFETY_NOTE = ("ringprint predicts resonances for design guidance only. It does 
 
 _CSS = """
 body{font-family:sans-serif;margin:1.5em auto;max-width:72em;color:#111;line-height:1.4}
-h1{font-size:1.5em;margin-bottom:.2em} h2{font-size:1.15em;margin-top:1.6em;
-border-bottom:1px solid #999}
-table{border-collapse:collapse;margin:.5em 0} th,td{border:1px solid #bbb;
-padding:.2em .6em;text-align:left;vertical-align:top} th{background:#eee}
+h1{font-size:1.5em;margin-bottom:.2em} h2{font-size:1.15em;margin-top:1.6em;border-bottom:1px solid #999}
+table{border-collapse:collapse;margin:.5em 0} th{background:#eee}
+th,td{border:1px solid #bbb;padding:.2em .6em;text-align:left;vertical-align:top}
 td.num{text-align:right;font-variant-numeric:tabular-nums;white-space:nowrap}
 tr.inside td{background:#ddd;font-weight:bold} tr.near td{background:#f3f3f3}
 .safety{border:2px solid #333;padding:.6em .9em;background:#fafafa}
@@ -143,7 +140,7 @@ def _case_dict(summary: Mapping) -> dict:
 
 def _spectrum_limits(summary: Mapping):
     spec = _case_dict(summary).get("spectrum") or {}
-    lo, hi = spec.get("low_hz"), spec.get("high_hz")
+    lo, hi = spec.get("f_min_hz"), spec.get("f_max_hz")
     return (float(lo), float(hi)) if lo is not None and hi is not None and hi > lo else None
 
 
@@ -208,6 +205,18 @@ def _case_section(summary: Mapping, bands: Sequence[Mapping]) -> str:
     if limits:
         facts.append(("spectrum analysed", f"{format_frequency(limits[0], trim=True)} to "
                                            f"{format_frequency(limits[1], trim=True)}"))
+    grid = summary["grid"]
+    line = []
+    if isinstance(grid.get("nodes"), list):
+        line.append(" \u00d7 ".join(str(v) for v in grid["nodes"]) + " nodes")
+    if isinstance(grid.get("cells"), int):
+        line.append(f"{grid['cells']:,} cells")
+    steps = list(dict.fromkeys(format_si(grid[k], "m") for k in ("step_min_m", "step_max_m")
+                               if isinstance(grid.get(k), (int, float))))
+    if steps:
+        line.append("step " + " to ".join(steps))
+    if line:
+        facts.append(("grid", ", ".join(line)))
     out = ["<h2>Case</h2>", _facts(facts, "case-facts")]
     parts = case.get("parts") or []
     if parts:
@@ -221,8 +230,6 @@ def _case_section(summary: Mapping, bands: Sequence[Mapping]) -> str:
                           [[b["name"], format_frequency(b["low_hz"], trim=True, digits=7),
                             format_frequency(b["high_hz"], trim=True, digits=7), b["source"]]
                            for b in bands], [False, True, True, False]))
-    out.append("<h3>Grid</h3>")
-    out.append(_facts(_grid_facts(summary["grid"]), "grid-facts"))
     return "\n".join(out)
 
 
@@ -242,6 +249,8 @@ def _hazard_section(summary: Mapping, hazards: Sequence[Mapping]) -> str:
     out.append(_table("hazards", ["rank", "mode", "frequency", "Q", "band", "status",
                                   "distance to edge", "where it rings"], rows,
                       [True, True, True, True, False, False, True, False], classes))
+    out.append('<p class="muted">Distance to edge: from the mode to the nearest band edge, in '
+               "percent of the mode frequency; negative inside the band.</p>")
     return "\n".join(out)
 
 
@@ -320,22 +329,24 @@ def write_report_html(path: str | os.PathLike, summary: Mapping, spectrum: Mappi
     png : bytes, optional
         An already rendered spectrum picture (saves drawing it twice).
     """
-    bands = validate_bands(list(bands))
-    data = validate_summary(summary, bands)
-    data.setdefault("ringprint_version", __version__)
-    if png is None:
-        freq, mag = check_spectrum(spectrum)
-        png = _render(data, freq, mag, bands)
+    data, bands, png = _checked(summary, spectrum, bands, png)
     target = Path(path)
     if target.is_dir():
         target = target / "report.html"
     return atomic_write_text(target, build_report_html(data, png, bands))
 
 
-def _render(data: Mapping, freq, mag, bands) -> bytes:
-    case = _case_dict(data)
-    return render_spectrum_png(freq, mag, data["modes"], bands, _spectrum_limits(data),
-                               case.get("title") or case["name"])
+def _checked(summary, spectrum, bands, png=None) -> tuple[dict, list, bytes]:
+    """Check everything, then draw the spectrum (unless ``png`` is given)."""
+    bands = validate_bands(list(bands))
+    data = validate_summary(summary, bands)
+    data.setdefault("ringprint_version", __version__)
+    if png is None:
+        freq, mag = check_spectrum(spectrum)
+        case = _case_dict(data)
+        png = render_spectrum_png(freq, mag, data["modes"], bands, _spectrum_limits(data),
+                                  case.get("title") or case["name"])
+    return data, bands, png
 
 
 def write_results(out_dir: str | os.PathLike, summary: Mapping, spectrum: Mapping,
@@ -372,13 +383,9 @@ def write_results(out_dir: str | os.PathLike, summary: Mapping, spectrum: Mappin
     RingprintError
         On bad input (naming the key) or an unusable output directory.
     """
-    bands = validate_bands(list(bands))
-    data = validate_summary(summary, bands)
+    data, bands, png = _checked(summary, spectrum, bands)
     data.setdefault("bands", bands)
-    data.setdefault("ringprint_version", __version__)
-    freq, mag = check_spectrum(spectrum)
     out = prepare_output_dir(out_dir)
-    png = _render(data, freq, mag, bands)
     written = {
         "json": write_json(out / "modes.json", data),
         "csv": write_csv(out / "modes.csv", data),

@@ -61,7 +61,7 @@ def invented_summary():
         "case": {"name": "made-up-handset", "title": "Made-up handset <test>",
                  "parts": [{"name": "frame segment", "material": "metal"},
                            {"name": "flex cable", "material": "polyimide"}],
-                 "spectrum": {"low_hz": 0.8e9, "high_hz": 3.0e9}},
+                 "spectrum": {"f_min_hz": 0.8e9, "f_max_hz": 3.0e9}},
         "grid": {"nodes": [120, 80, 40], "cells": 366639, "step_min_m": 5e-4,
                  "step_max_m": 5e-4, "cpml_cells": 10},
         "modes": modes,
@@ -232,7 +232,8 @@ def test_html_case_summary_run_facts_and_safety(written):
     assert " ".join(SAFETY_NOTE.split()) in text
     assert "SAR" in text and "local codes" in text
     assert "Made-up handset <test>" in text  # escaped in HTML, read back as text
-    for word in ("frame segment", "polyimide", "800 MHz to 3 GHz", "120 × 80 × 40",
+    for word in ("frame segment", "polyimide", "800 MHz to 3 GHz",
+                 "120 × 80 × 40 nodes, 366,639 cells, step 500 µm",
                  "test-band-low", "40,000", "5 min 12 s", "775 MiB", "made-up note"):
         assert word in text, word
     run = {r[0]: r[1] for r in parsed.rows("run-facts")}
