@@ -256,7 +256,8 @@ class RunLogHandler(logging.Handler):
     Parameters
     ----------
     path : str or path-like
-        The log file, or a directory (``run.log`` inside it).
+        The log file, or an existing directory (``run.log`` inside it); the
+        directory must exist (see :func:`prepare_output_dir`).
     interval_s : float
         Longest time between rewrites for INFO/DEBUG records.
     level : int
@@ -273,6 +274,10 @@ class RunLogHandler(logging.Handler):
         super().__init__(level)
         target = Path(path)
         self.path = target / "run.log" if target.is_dir() else target
+        if not self.path.parent.is_dir():
+            raise RingprintError(
+                f"run log '{self.path}': directory '{self.path.parent}' does not exist; "
+                "create the output directory first (prepare_output_dir)")
         self.interval_s = float(interval_s)
         self.lines: list[str] = []
         self._last_write = float("-inf")

@@ -203,6 +203,11 @@ def test_run_log_handler_keeps_file_complete(tmp_path):
     _assert_no_temp(tmp_path)
 
 
+def test_run_log_handler_needs_an_existing_directory(tmp_path):
+    with pytest.raises(RingprintError, match="does not exist"):
+        RunLogHandler(tmp_path / "not-yet" / "run.log")
+
+
 def test_umask_reader_matches_os():
     old = os.umask(0o027)
     try:

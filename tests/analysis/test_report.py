@@ -19,6 +19,8 @@ from html.parser import HTMLParser
 
 import numpy as np
 import pytest
+from hypothesis import given, settings
+from hypothesis import strategies as st
 
 from ringprint.analysis.outputs import TEMP_MARKER
 from ringprint.analysis.plots import check_spectrum, render_spectrum_png, spectrum_from_record
@@ -288,6 +290,16 @@ def test_spectrum_png_is_a_real_non_blank_image(written):
     assert shaded.mean() > 0.005  # the tinted band shading is there
 
 
+def test_render_without_modes_bands_or_limits_uses_whole_span():
+    import io
+
+    import matplotlib.image as mpimg
+
+    png = render_spectrum_png(np.linspace(1e6, 9e6, 200), np.sin(np.linspace(0, 9, 200)), dpi=40)
+    img = mpimg.imread(io.BytesIO(png), format="png")
+    assert img.shape[:2] == (round(4.8 * 40), 9 * 40) and img[..., :3].std() > 0.05
+
+
 def test_spectrum_png_same_picture_as_embedded(written):
     out, _, _ = written
     parsed = _parse(out / "report.html")
@@ -462,6 +474,18 @@ def test_summary_table_columns_are_aligned():
 ])
 def test_number_formats(func, value, text):
     assert func(value) == text
+
+
+@settings(max_examples=200, deadline=None)
+@given(st.floats(min_value=1e-2, max_value=9.9e5))
+def test_q_has_three_significant_digits(q):
+    shown = format_q(q)
+    assert abs(float(shown) - q) <= 0.005 * q + 1e-12  # rounding to 3 digits: <= 0.5 %
+    digits = shown.replace(".", "").lstrip("0")
+    if "." in shown:
+        assert len(digits) == 3, shown  # e.g. 0.866, 5.00, 43.2
+    else:
+        assert len(digits) >= 3 and set(digits[3:]) <= {"0"}, shown  # e.g. 1230
 
 
 def test_frequency_digits_follow_the_error():
