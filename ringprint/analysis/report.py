@@ -329,20 +329,22 @@ def write_report_html(path: str | os.PathLike, summary: Mapping, spectrum: Mappi
     png : bytes, optional
         An already rendered spectrum picture (saves drawing it twice).
     """
-    data, bands, png = _checked(summary, spectrum, bands, png)
+    data, bands, png = _checked(summary, spectrum, bands, png=png)
     target = Path(path)
     if target.is_dir():
         target = target / "report.html"
     return atomic_write_text(target, build_report_html(data, png, bands))
 
 
-def _checked(summary, spectrum, bands, png=None) -> tuple[dict, list, bytes]:
-    """Check everything, then draw the spectrum (unless ``png`` is given)."""
+def _checked(summary, spectrum, bands, out_dir=None, png=None) -> tuple[dict, list, bytes]:
+    """Check everything (and prepare ``out_dir``), then draw the spectrum unless given."""
     bands = validate_bands(list(bands))
     data = validate_summary(summary, bands)
     data.setdefault("ringprint_version", __version__)
+    freq, mag = check_spectrum(spectrum) if png is None else (None, None)
+    if out_dir is not None:
+        prepare_output_dir(out_dir)
     if png is None:
-        freq, mag = check_spectrum(spectrum)
         case = _case_dict(data)
         png = render_spectrum_png(freq, mag, data["modes"], bands, _spectrum_limits(data),
                                   case.get("title") or case["name"])
@@ -383,9 +385,9 @@ def write_results(out_dir: str | os.PathLike, summary: Mapping, spectrum: Mappin
     RingprintError
         On bad input (naming the key) or an unusable output directory.
     """
-    data, bands, png = _checked(summary, spectrum, bands)
+    data, bands, png = _checked(summary, spectrum, bands, out_dir)
     data.setdefault("bands", bands)
-    out = prepare_output_dir(out_dir)
+    out = Path(out_dir)
     written = {
         "json": write_json(out / "modes.json", data),
         "csv": write_csv(out / "modes.csv", data),
