@@ -26,8 +26,9 @@ TABLES = ("spectrum", "probe", "grid", "analysis", "output")
 class Checker:
     """Reads values out of the parsed TOML, raising one-line errors that cite lines."""
 
-    def __init__(self, filename: str, text: str):
+    def __init__(self, filename: str, text: str, top_keys: Iterable[str] = ()):
         self.file = filename
+        self.top_keys = tuple(top_keys)      # for the hint on a top-level key written too late
         self.lines = KeyLines(text)
         self.labels: dict[tuple, str] = {}   # ("part", 1) -> the part's name, for messages
 
@@ -70,6 +71,9 @@ class Checker:
                 close = difflib.get_close_matches(key, allowed, n=1, cutoff=0.6)
                 hint = f"did you mean {close[0]!r}?" if close else \
                     f"allowed keys here: {', '.join(allowed)}"
+                if path and key in self.top_keys and not close:
+                    hint = (f"{key!r} belongs to the top level: move it above the first "
+                            "[table] header")
                 self.fail(path + (key,), f"unknown key; {hint}")
         return value
 

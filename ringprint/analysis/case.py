@@ -227,7 +227,7 @@ def load_case(path: str | os.PathLike) -> Case:
         data = tomllib.loads(text)
     except tomllib.TOMLDecodeError as exc:
         raise RingprintError(_case_io.syntax_message(display, str(exc))) from None
-    return _build(Checker(display, text), data, source)
+    return _build(Checker(display, text, TOP_KEYS), data, source)
 
 
 def _build(ck: Checker, data: dict, source: Path) -> Case:
@@ -320,6 +320,9 @@ def _material(ck: Checker, value, here: tuple) -> tuple[Material, str | None]:
     try:
         if isinstance(value, str):
             return get_material(value), value
+        if not isinstance(value, dict):
+            ck.fail(here, 'expected a library name such as "abs" or a table '
+                    "{ eps_r = ..., loss_tangent = ... }")
         table = ck.table(value, here, MATERIAL_KEYS)
         conductor = ck.boolean(table.get("conductor", False), here + ("conductor",))
         lowest = {"eps_r": 1.0, "loss_tangent": 0.0, "sigma": 0.0}
