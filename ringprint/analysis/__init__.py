@@ -1,0 +1,5 @@
+"""The job layer: case file, harmonic inversion, reports and the CLI."""
+
+from ringprint.analysis.inversion import Resonance, harmonic_inversion
+
+__all__ = ["Resonance", "harmonic_inversion"]
