@@ -1,0 +1,233 @@
+"""From a validated case to the arrays the solver takes: surfaces, grid, per-edge media.
+
+This is where the two lower layers meet: :mod:`ringprint.meshing` reads, checks and
+voxelizes the parts onto the grid it plans; this module turns the per-part edge
+fractions into per-edge relative permittivity, conductivity and PEC masks in the
+layout of :mod:`ringprint.fdtd` (DEVELOPERS.md, array conventions).
+
+Rules (documented here because the report relies on them):
+
+- **Dielectrics** are averaged per E-edge over the edge's n x n sub-rays (Farjadpour
+  et al. 2006, axis-aligned form): along each sub-ray the complex permittivities of
+  the parts and the air it crosses are combined in series (harmonic mean, the field
+  runs along the ray), then the sub-rays are combined in parallel (arithmetic mean).
+  Conductivity rides along as the imaginary part ``-sigma / (omega0 eps0)`` at the
+  case's loss frequency ``omega0``, so a lossy edge keeps its loss tangent there.
+- **Conductors** (all treated as perfect today) make an edge PEC when the edge itself
+  (the middle sub-ray) lies at least half inside the part, the unbiased staircase.
+  For sheets, and for conductor solids thinner than ``THIN_CELLS`` cells, the edges
+  the surface cuts are PEC too (rule in :func:`ringprint.meshing.surface_cuts`), so a
+  shield can or foil thinner than a cell stays conducting. In the dielectric
+  average, the volume a conductor claims counts as air.
+- **Overlaps** follow :func:`ringprint.meshing.resolve_overlaps`: a higher
+  ``priority`` wins, else the later part in the case file.
+"""
+
+from __future__ import annotations
+
+import math
+import warnings
+from dataclasses import dataclass, field
+
+import numpy as np
+
+from ringprint import fdtd, meshing
+from ringprint.analysis.case import Case, Part
+from ringprint.errors import RingprintError
+from ringprint.fdtd import EPS0
+
+#: Conductor solids thinner than this many cells also get their surface-cut edges.
+THIN_CELLS = 1.5
+#: Sub-rays per transverse axis used for interface averaging (odd: the middle one is the edge).
+SUBRAYS = 3
+COMPONENTS = ("x", "y", "z")
+
+
+@dataclass
+class PartModel:
+    """One case part on the grid: its surfaces (one per body) and their voxelization."""
+
+    part: Part
+    surfaces: list
+    fills: list = field(default_factory=list)
+    thin: bool = False
+
+    @property
+    def name(self) -> str:
+        return self.part.name
+
+    @property
+    def is_conductor(self) -> bool:
+        return self.part.material.is_pec
+
+
+@dataclass
+class Model:
+    """Everything the solver needs, plus what was learnt on the way (for reports)."""
+
+    case: Case
+    grid: meshing.Grid
+    parts: list
+    eps_r: tuple
+    sigma: tuple
+    pec: tuple
+    memory: dict
+    warnings: list
+
+    @property
+    def axes(self):
+        return self.grid.x, self.grid.y, self.grid.z
+
+    def fdtd_grid(self) -> fdtd.Grid:
+        return fdtd.Grid(self.grid.x, self.grid.y, self.grid.z)
+
+    def media(self, grid: fdtd.Grid | None = None) -> fdtd.Media:
+        return fdtd.Media(grid or self.fdtd_grid(), eps_r=self.eps_r, sigma=self.sigma, pec=self.pec)
+
+    @property
+    def bounds(self):
+        """Union bounding box of all parts (metres)."""
+        lo = np.min([s.bounds[0] for p in self.parts for s in p.surfaces], axis=0)
+        hi = np.max([s.bounds[1] for p in self.parts for s in p.surfaces], axis=0)
+        return lo, hi
+
+    def vertices(self, part: PartModel | None = None) -> np.ndarray:
+        """All surface vertices of one part, or of the assembly."""
+        parts = self.parts if part is None else [part]
+        return np.concatenate([s.vertices[np.unique(s.faces)] for p in parts for s in p.surfaces])
+
+
+def _unit_name(metres: float) -> str:
+    for name, scale in meshing.UNITS.items():
+        if math.isclose(scale, metres, rel_tol=1e-12):
+            return name
+    raise RingprintError(f"mesh unit of {metres} m is not one of {', '.join(meshing.UNITS)}")
+
+
+def eps_r_max(case: Case) -> float:
+    """The largest relative permittivity among the case's dielectrics (1 for air)."""
+    return max([1.0] + [case.medium(p)[0] for p in case.parts if not p.material.is_pec])
+
+
+def load_surfaces(case: Case, cell: float) -> list[PartModel]:
+    """Read, place and check every part's file (CAD tessellated to about ``cell / 4``)."""
+    out = []
+    for part in case.parts:
+        rotate = (part.rotate_axis, part.rotate_degrees) if part.rotate_degrees else None
+        surfaces = meshing.load_parts(part.file, unit=_unit_name(part.file_unit_m),
+                                      conductor=part.material.is_pec, cell_size=cell,
+                                      scale=part.scale, mirror=part.mirror, rotate=rotate,
+                                      translate=part.translate_m)
+        if not surfaces:
+            raise RingprintError(f"{part.file}: part {part.name!r} holds no surface; check the file")
+        out.append(PartModel(part, surfaces))
+    return out
+
+
+def plan(case: Case, parts: list[PartModel]) -> meshing.Grid:
+    """The Yee grid for the case: cell size from f_max and the densest material."""
+    bounds = [s.bounds for p in parts for s in p.surfaces]
+    return meshing.plan_grid(bounds, case.spectrum.f_max_hz, eps_r_max(case),
+                             case.grid.cells_per_wavelength, padding=case.grid.padding_m,
+                             boundary_cells=case.grid.absorber_cells, f_min=case.spectrum.f_min_hz)
+
+
+def build_model(case: Case, allow_memory: bool = False, progress=None) -> Model:
+    """Mesh the case: read parts, plan the grid, check memory, voxelize, assemble media.
+
+    Parameters
+    ----------
+    case : Case
+    allow_memory : bool
+        Run even when the estimate exceeds the available memory.
+    progress : callable or None
+        Called as ``progress(done, total, what)`` after each part is voxelized.
+
+    Returns
+    -------
+    Model
+
+    References
+    ----------
+    Farjadpour, A. et al., Opt. Lett. 31(20):2972-2974, 2006 (interface averaging).
+    """
+    cell = meshing.cell_size(case.spectrum.f_max_hz, eps_r_max(case), case.grid.cells_per_wavelength)
+    with warnings.catch_warnings(record=True) as caught:
+        warnings.simplefilter("always", meshing.MeshingWarning)
+        parts = load_surfaces(case, cell)
+        grid = plan(case, parts)
+        boxes = [tuple(np.searchsorted(ax, hi) - np.searchsorted(ax, lo) + 2
+                       for ax, lo, hi in zip(grid.axes, *s.bounds)) for p in parts for s in p.surfaces]
+        memory = meshing.memory_estimate(*grid.axes, boundary_cells=grid.boundary_cells,
+                                         subrays=SUBRAYS, part_boxes=boxes)
+        meshing.check_memory(memory, allow=allow_memory)
+        thin = meshing.warn_thin_parts([s for p in parts for s in p.surfaces], grid.cell)
+        total = sum(len(p.surfaces) for p in parts)
+        done = 0
+        for p in parts:
+            p.thin = any(s.name in thin for s in p.surfaces)
+            for s in p.surfaces:
+                cuts = p.is_conductor and (p.thin or meshing.thickness(s, grid.cell / 2) < THIN_CELLS * grid.cell)
+                p.fills.append(meshing.voxelize(s, *grid.axes, subrays=SUBRAYS, cuts=cuts))
+                done += 1
+                if progress is not None:
+                    progress(done, total, p.name)
+    notes = [str(w.message) for w in caught]
+    eps, sig, pec = assemble(case, grid, parts)
+    return Model(case, grid, parts, eps, sig, pec, memory, notes)
+
+
+def _shapes(grid: meshing.Grid) -> dict:
+    nx, ny, nz = grid.shape
+    return {"x": (nx - 1, ny, nz), "y": (nx, ny - 1, nz), "z": (nx, ny, nz - 1)}
+
+
+def assemble(case: Case, grid: meshing.Grid, parts: list[PartModel]):
+    """Per-edge ``(eps_r, sigma, pec)``, each a tuple of three arrays (x, y, z).
+
+    See the module docstring for the averaging and conductor rules.
+    """
+    shapes = _shapes(grid)
+    fills, prio, media = [], [], []
+    for p in parts:
+        for f in p.fills:
+            fills.append(f)
+            prio.append(p.part.priority)
+            media.append(case.medium(p.part))
+    fills = meshing.resolve_overlaps(fills, shapes, priority=prio)
+    omega0 = 2 * math.pi * case.spectrum.loss_at_hz
+    eps_out, sig_out, pec_out = [], [], []
+    for comp in COMPONENTS:
+        shape = shapes[comp]
+        pec = np.zeros(shape, bool)
+        dielectric = [(f, e - 1j * s / (omega0 * EPS0)) for f, (e, s, is_pec) in zip(fills, media)
+                      if not is_pec and f.fractions is not None]
+        for f, (_e, _s, is_pec) in zip(fills, media):
+            if not is_pec:
+                continue
+            if f.fractions is not None:
+                box = f.centre(comp)
+                pec[box.slices] |= box.data >= 0.5
+            if f.cuts is not None:
+                box = f.cuts[comp]
+                pec[box.slices] |= box.data
+        eps = np.ones(shape, np.complex128)
+        if dielectric:
+            lo = np.min([f.fractions[comp].offset for f, _ in dielectric], axis=0)
+            hi = np.max([np.add(f.fractions[comp].offset, f.fractions[comp].data.shape[1:])
+                         for f, _ in dielectric], axis=0)
+            n_sub = dielectric[0][0].fractions[comp].data.shape[0]
+            claimed = np.zeros((n_sub,) + tuple(hi - lo), np.float64)
+            inverse = np.zeros_like(claimed, np.complex128)
+            for f, eps_c in dielectric:
+                box = f.fractions[comp]
+                sl = (slice(None),) + tuple(slice(o - l, o - l + n) for o, l, n in
+                                            zip(box.offset, lo, box.data.shape[1:]))
+                claimed[sl] += box.data
+                inverse[sl] += box.data / eps_c
+            inverse += np.clip(1.0 - claimed, 0.0, 1.0)  # the rest of each sub-ray is air
+            eps[tuple(slice(a, b) for a, b in zip(lo, hi))] = np.mean(1.0 / inverse, axis=0)
+        eps_out.append(np.ascontiguousarray(eps.real))
+        sig_out.append(np.ascontiguousarray(np.maximum(-eps.imag * omega0 * EPS0, 0.0)))
+        pec_out.append(pec)
+    return tuple(eps_out), tuple(sig_out), tuple(pec_out)
