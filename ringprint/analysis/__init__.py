@@ -3,3 +3,6 @@
 from ringprint.analysis.inversion import Resonance, harmonic_inversion
 
 __all__ = ["Resonance", "harmonic_inversion"]
+from ringprint.analysis.matrix_pencil import matrix_pencil
+
+__all__ += ["matrix_pencil"]

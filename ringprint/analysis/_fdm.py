@@ -33,13 +33,14 @@ class BandLimited:
 
 
 def band_limit(c: np.ndarray, dt: float, f_lo: float, f_hi: float, *, oversampling: float,
-               attenuation_db: float, min_samples: int) -> BandLimited:
+               attenuation_db: float, min_samples: int, step: int | None = None) -> BandLimited:
     """Mix ``[f_lo, f_hi]`` to zero frequency, low-pass and decimate (Kaiser-window FIR).
 
     The kept band is ``f_center +- half`` with a guard of ``max(W/4, 40/T)`` on each side
     of the window ``W``; the decimated rate is at least ``oversampling * 2 * half`` so that
-    the transition band is wide and the filter short. Only fully overlapped ("valid")
-    filter outputs are kept, so the poles of the record are not changed.
+    the transition band is wide and the filter short (``step`` forces a decimation
+    factor no larger than the one so chosen). Only fully overlapped ("valid") filter
+    outputs are kept, so the poles of the record are not changed.
     """
     n = c.shape[1]
     fs = 1.0 / dt
@@ -48,7 +49,7 @@ def band_limit(c: np.ndarray, dt: float, f_lo: float, f_hi: float, *, oversampli
     half = 0.5 * width + max(0.25 * width, 40.0 / (n * dt))
     frac = np.mod(f_center * dt * np.arange(n), 1.0)
     x = c * np.exp(2j * np.pi * frac)          # exp(-i w t) convention: shift by +f_center
-    step = int(fs / (oversampling * 2.0 * half))
+    step = min(int(fs / (oversampling * 2.0 * half)), step or np.inf)
     while step >= 2:
         trans = fs / step - 2.0 * half          # transition band width, Hz
         numtaps, beta = scipy.signal.kaiserord(attenuation_db, trans / (0.5 * fs))
