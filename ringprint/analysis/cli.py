@@ -18,6 +18,7 @@ from ringprint.errors import RingprintError
 # (name, one-line help). The module ringprint.analysis.cmd_<name> does the work.
 COMMANDS: list[tuple[str, str]] = [
     ("bench", "measure solver throughput against this machine's memory bandwidth"),
+    ("mesh", "mesh a case and show the grid, memory and run time, without running it"),
 ]
 
 

@@ -1,0 +1,180 @@
+"""Mesh a case and show what the solver would get, without running it.
+
+Reads CASE.toml, reads and checks every part, plans the grid and voxelizes. Prints
+each part (triangles, closed solid or open sheet, volume, size, material, notes),
+the grid (cells, cell size, padding, absorbing layer, time step), the memory a run
+needs and an estimate of its run time. Writes into DIR (default
+<case folder>/<case name>_mesh/): model.vti (part id, eps_r and conductor flag per
+cell, for a 3-D viewer), model.png (a preview picture) and case.resolved.toml (the
+case with every default filled in). Nothing is written when anything fails.
+"""
+
+from __future__ import annotations
+
+import argparse
+import contextlib
+import math
+from pathlib import Path
+
+import numpy as np
+
+from ringprint import fdtd
+from ringprint.analysis import voxel_image
+from ringprint.analysis.case import Case, load_case
+from ringprint.analysis.model import Model, build_model
+from ringprint.analysis.outputs import atomic_path, prepare_output_dir
+from ringprint.analysis.textformat import format_bytes, format_duration, format_frequency, format_si
+from ringprint.meshing import available_memory
+
+#: Courant factor the time step is quoted for (the solver's default, fdtd.courant_time_step).
+COURANT = 0.99
+#: Solver throughput (cell updates per second, absorbing layer included) assumed for the
+#: run-time estimate: a conservative figure from ``ringprint bench`` on this project's
+#: 2-core machine (see ``run_time_estimate``).
+THROUGHPUT_CELLS_PER_S = 4.0e6
+FILES = ("model.vti", "model.png", "case.resolved.toml")
+
+
+def add_arguments(parser: argparse.ArgumentParser) -> None:
+    parser.add_argument("case", metavar="CASE.toml", help="the case file")
+    parser.add_argument("--out", metavar="DIR", default=None,
+                        help="output directory (default: <case folder>/<case name>_mesh/)")
+
+
+def default_out_dir(case_path: str | Path) -> Path:
+    """``<case folder>/<case stem>_mesh``."""
+    path = Path(case_path)
+    return path.parent / f"{path.stem}_mesh"
+
+
+def run_time_estimate(model: Model, throughput: float = THROUGHPUT_CELLS_PER_S) -> dict:
+    """Expected time steps and wall time of a run of this model.
+
+    Basis: the record the run needs is the source pulse (a Gaussian-modulated sine
+    over ``[f_min, f_max]``, :class:`ringprint.fdtd.GaussianPulse`, until its envelope
+    is below 1e-8 of its peak) plus the ring-down time ``q_max / (pi f_min)``: the
+    1/e amplitude time of the highest-Q mode at the lowest frequency (a mode
+    ``exp(-pi f t / Q) cos(2 pi f t)`` decays to 1/e at ``t = Q / (pi f)``). Steps
+    are that time over the Courant time step; wall time is cells x steps over
+    ``throughput``.
+
+    Returns
+    -------
+    dict
+        ``dt_s, source_s, ringdown_s, steps, cells, throughput, seconds``.
+
+    References
+    ----------
+    Taflove, A. & Hagness, S. C., Computational Electrodynamics, 3rd ed., 2005, ch. 4
+    (Courant limit); Pozar, D. M., Microwave Engineering, 4th ed., 2012, sec. 6.1
+    (Q as stored energy over loss per radian, hence the decay rate pi f / Q).
+    """
+    case = model.case
+    dt = fdtd.courant_time_step(model.fdtd_grid(), COURANT)
+    source = float(fdtd.GaussianPulse(case.spectrum.f_min_hz, case.spectrum.f_max_hz).t_end)
+    ringdown = case.analysis.q_max / (math.pi * case.spectrum.f_min_hz)
+    steps = int(math.ceil((source + ringdown) / dt))
+    cells = int(np.prod([n - 1 for n in model.grid.shape]))
+    return {"dt_s": dt, "source_s": source, "ringdown_s": ringdown, "steps": steps,
+            "cells": cells, "throughput": float(throughput), "seconds": cells * steps / throughput}
+
+
+def _length(metres: float, case: Case, digits: int = 4) -> str:
+    value = metres / case.unit_m
+    return f"{value:.{digits}g}"
+
+
+def _part_rows(model: Model, owners: np.ndarray) -> list[str]:
+    case = model.case
+    u = case.units
+    cell_volume = model.grid.cell ** 3
+    counts = np.bincount(owners.ravel(), minlength=len(model.parts) + 1)
+    rows = []
+    for i, p in enumerate(model.parts):
+        kinds = sorted({s.kind for s in p.surfaces})
+        triangles = sum(s.n_triangles for s in p.surfaces)
+        lo = np.min([s.bounds[0] for s in p.surfaces], axis=0)
+        hi = np.max([s.bounds[1] for s in p.surfaces], axis=0)
+        size = " x ".join(_length(h - lo_, case) for lo_, h in zip(lo, hi))
+        eps, sigma, is_pec = case.medium(p.part)
+        material = p.part.material_name or p.part.material.name
+        medium = "perfect conductor" if is_pec else f"eps_r {eps:g}, sigma {sigma:.3g} S/m"
+        bodies = f"{len(p.surfaces)} bodies, " if len(p.surfaces) > 1 else ""
+        line = (f"  {i + 1}. {p.name}: {bodies}{triangles} triangles, "
+                f"{'closed solid' if kinds == ['solid'] else 'open sheet' if kinds == ['sheet'] else '+'.join(kinds)}")
+        if "solid" in kinds:
+            volume = sum(s.volume for s in p.surfaces) / case.unit_m ** 3
+            line += f", volume {volume:.6g} {u}^3"
+        line += (f", voxels {counts[i + 1] * cell_volume / case.unit_m ** 3:.4g} {u}^3 "
+                 f"({counts[i + 1]} cells)")
+        rows.append(line)
+        rows.append(f"     size {size} {u} (from {_length(lo[0], case)}, {_length(lo[1], case)}, "
+                    f"{_length(lo[2], case)}), material {material} ({medium})")
+        notes = [n for s in p.surfaces for n in s.notes]
+        if p.thin:
+            notes.append("thinner than one cell: staircased to whole cells")
+        if counts[i + 1] == 0:
+            notes.append("owns no cell in the voxel model (hidden by another part, or smaller than a cell)")
+        rows.extend(f"     note: {n}" for n in notes)
+    return rows
+
+
+def summary(model: Model, owners: np.ndarray, estimate: dict, case_path: str) -> str:
+    """The text ``ringprint mesh`` prints (without the list of written files)."""
+    case, grid = model.case, model.grid
+    nodes = grid.shape
+    cells = [n - 1 for n in nodes]
+    lines = [f"case: {case.title} ({case_path})",
+             f"spectrum: {format_frequency(case.spectrum.f_min_hz, trim=True)} to "
+             f"{format_frequency(case.spectrum.f_max_hz, trim=True)}, q_max {case.analysis.q_max:g}",
+             f"parts ({len(model.parts)}):"]
+    lines += _part_rows(model, owners)
+    layer = grid.boundary_cells * grid.cell
+    lines += [
+        f"grid: {cells[0]} x {cells[1]} x {cells[2]} cells = {estimate['cells']:,}, "
+        f"cell {_length(grid.cell, case)} {case.units} "
+        f"({case.grid.cells_per_wavelength:g} per wavelength at f_max in the densest material), "
+        f"padding {_length(grid.padding, case)} {case.units}, absorbing layer {grid.boundary_cells} "
+        f"cells ({_length(layer, case)} {case.units}) on each face",
+        f"time step: {format_si(estimate['dt_s'], 's')} (Courant factor {COURANT})",
+        f"memory: {format_bytes(model.memory['total'])} needed ("
+        + ", ".join(f"{k} {format_bytes(v)}" for k, v in model.memory.items() if k != "total")
+        + f"), {format_bytes(available_memory())} available",
+        f"run time: about {format_duration(estimate['seconds'])} = {estimate['steps']:,} steps x "
+        f"{estimate['cells']:,} cells at {estimate['throughput'] / 1e6:g} Mcells/s; steps cover the "
+        f"source pulse ({format_si(estimate['source_s'], 's')}) and the 1/e ring-down of a "
+        f"Q = {case.analysis.q_max:g} mode at f_min, q_max/(pi f_min) = "
+        f"{format_si(estimate['ringdown_s'], 's')}",
+    ]
+    if model.warnings:
+        lines.append("warnings:")
+        lines += [f"  {w}" for w in model.warnings]
+    return "\n".join(lines)
+
+
+def write_outputs(model: Model, owners: np.ndarray, out_dir: Path) -> list[Path]:
+    """Write model.vti, model.png and case.resolved.toml; all appear, or none does."""
+    image = voxel_image.voxel_image(model, owners)
+    finals = [out_dir / name for name in FILES]
+    with contextlib.ExitStack() as stack:
+        vti, png, toml = (stack.enter_context(atomic_path(f)) for f in finals)
+        image.save(str(vti), binary=True)
+        voxel_image.render_preview(model, image, png)
+        toml.write_text(model.case.resolved_toml(), encoding="utf-8")
+    return finals
+
+
+def run(args: argparse.Namespace) -> int:
+    out_dir = Path(args.out) if args.out is not None else default_out_dir(args.case)
+    if out_dir.exists():
+        prepare_output_dir(out_dir)  # fail fast on a file or a read-only directory
+    case = load_case(args.case)
+    model = build_model(case)
+    owners = voxel_image.cell_owners(model)
+    estimate = run_time_estimate(model)
+    text = summary(model, owners, estimate, args.case)
+    prepare_output_dir(out_dir)
+    written = write_outputs(model, owners, out_dir)
+    print(text)
+    print("written: " + ", ".join(str(p) for p in written))
+    return 0
