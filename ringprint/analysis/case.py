@@ -132,6 +132,9 @@ class Probe:
 
 @dataclass(frozen=True)
 class Grid:
+    """Grid wishes: cells per wavelength at f_max in the densest material, air padding
+    between the parts and the absorbing layer (m), and that layer's thickness in cells."""
+
     cells_per_wavelength: float
     padding_m: float
     absorber_cells: int
@@ -139,12 +142,16 @@ class Grid:
 
 @dataclass(frozen=True)
 class Analysis:
+    """The highest Q to resolve (sets the record length) and the detuning margin (fraction)."""
+
     q_max: float
     detuning_margin: float
 
 
 @dataclass(frozen=True)
 class Output:
+    """Switches for the optional outputs: per-mode field files and mode pictures."""
+
     fields: bool
     images: bool
 
