@@ -24,6 +24,7 @@ from ringprint.analysis.case import Case, load_case
 from ringprint.analysis.model import Model, build_model
 from ringprint.analysis.outputs import atomic_path, prepare_output_dir
 from ringprint.analysis.textformat import format_bytes, format_duration, format_frequency, format_si
+from ringprint.errors import RingprintError
 from ringprint.meshing import available_memory
 
 #: Courant factor the time step is quoted for (the solver's default, fdtd.courant_time_step).
@@ -104,7 +105,7 @@ def _part_rows(model: Model, owners: np.ndarray) -> list[str]:
                 f"{'closed solid' if kinds == ['solid'] else 'open sheet' if kinds == ['sheet'] else '+'.join(kinds)}")
         if "solid" in kinds:
             volume = sum(s.volume for s in p.surfaces) / case.unit_m ** 3
-            line += f", volume {volume:.6g} {u}^3"
+            line += f", volume {volume:.10g} {u}^3"  # the mesh volume is exact: show it so
         line += (f", voxels {counts[i + 1] * cell_volume / case.unit_m ** 3:.4g} {u}^3 "
                  f"({counts[i + 1]} cells)")
         rows.append(line)
@@ -152,10 +153,24 @@ def summary(model: Model, owners: np.ndarray, estimate: dict, case_path: str) ->
     return "\n".join(lines)
 
 
-def write_outputs(model: Model, owners: np.ndarray, out_dir: Path) -> list[Path]:
-    """Write model.vti, model.png and case.resolved.toml; all appear, or none does."""
-    image = voxel_image.voxel_image(model, owners)
+def _check_names(out_dir: Path) -> list[Path]:
+    """The result paths, refusing a name taken by something that is not a file."""
     finals = [out_dir / name for name in FILES]
+    for final in finals:
+        if final.exists() and not final.is_file():
+            raise RingprintError(f"'{final}' exists and is not a file; move it away or choose "
+                                 "another directory with --out")
+    return finals
+
+
+def write_outputs(model: Model, owners: np.ndarray, out_dir: Path) -> list[Path]:
+    """Write model.vti, model.png and case.resolved.toml; all appear, or none does.
+
+    Each file is written under a temporary name and all are renamed together at the
+    end; a name taken by something that is not a file is refused before any writing.
+    """
+    finals = _check_names(out_dir)
+    image = voxel_image.voxel_image(model, owners)
     with contextlib.ExitStack() as stack:
         vti, png, toml = (stack.enter_context(atomic_path(f)) for f in finals)
         image.save(str(vti), binary=True)
@@ -164,12 +179,22 @@ def write_outputs(model: Model, owners: np.ndarray, out_dir: Path) -> list[Path]
     return finals
 
 
+def _with_file(message: str, case_path: str, case: Case) -> str:
+    """Prefix the case file to a message that names no file (e.g. the memory check)."""
+    names = [case_path, str(case.source)] + [p.file.name for p in case.parts]
+    return message if any(n in message for n in names) else f"{case_path}: {message}"
+
+
 def run(args: argparse.Namespace) -> int:
     out_dir = Path(args.out) if args.out is not None else default_out_dir(args.case)
-    if out_dir.exists():
-        prepare_output_dir(out_dir)  # fail fast on a file or a read-only directory
+    if out_dir.exists():  # fail fast on a file, a read-only directory or a taken name
+        prepare_output_dir(out_dir)
+        _check_names(out_dir)
     case = load_case(args.case)
-    model = build_model(case)
+    try:
+        model = build_model(case)
+    except RingprintError as exc:
+        raise RingprintError(_with_file(str(exc), args.case, case)) from None
     owners = voxel_image.cell_owners(model)
     estimate = run_time_estimate(model)
     text = summary(model, owners, estimate, args.case)

@@ -1,0 +1,211 @@
+"""``ringprint mesh``: summary, model.vti, model.png and case.resolved.toml.
+
+The small case is a dielectric box (eps_r 4) and a PEC sheet, both written as STL
+with meshio in mm. References used below:
+
+- box volume: the product of its sides (the triangle mesh is exact, so the
+  divergence-theorem volume must agree to round-off, 1e-9 relative);
+- voxel count: a cell belongs to the box when its centre lies inside it
+  (``ringprint.analysis.voxel_image``), so for an axis-aligned box the count is the
+  product of the numbers of cell centres inside each side, counted here from the grid
+  vectors alone; the staircase error bound follows: each side is covered by between
+  (L/h - 1) and (L/h + 1) cells, so |N h^3 - V| <= (Lx+h)(Ly+h)(Lz+h) - Lx Ly Lz;
+- time step: the Yee Courant limit on a uniform cubic grid,
+  dt = S h / (c sqrt(3)) (Taflove & Hagness, Computational Electrodynamics, 3rd ed.
+  2005, eq. 4.95 with equal cell sides).
+"""
+
+from __future__ import annotations
+
+import contextlib
+import io
+import math
+import re
+from pathlib import Path
+
+import matplotlib.image as mpimg
+import meshio
+import numpy as np
+import pytest
+import pyvista as pv
+from scipy.constants import c as C0
+
+from ringprint.analysis import cli
+from ringprint.analysis.case import load_case
+
+REPO = Path(__file__).resolve().parents[2]
+BOX_LO = np.array([0.0, 0.0, 0.0])          # mm
+BOX_SIZE = np.array([7.25, 5.125, 3.625])  # mm; exact in float32 (binary STL), no ties
+SHEET_Z = 6.2                               # mm, a plate above the box
+F_MIN, F_MAX, EPS_BOX, CPW, PAD = 2e9, 10e9, 4.0, 20, 3.0
+
+
+def box_mesh(lo, size):
+    """Eight corners, twelve outward triangles."""
+    x0, y0, z0 = lo
+    x1, y1, z1 = np.asarray(lo) + size
+    pts = np.array([[x0, y0, z0], [x1, y0, z0], [x1, y1, z0], [x0, y1, z0],
+                    [x0, y0, z1], [x1, y0, z1], [x1, y1, z1], [x0, y1, z1]], float)
+    tri = np.array([[0, 2, 1], [0, 3, 2], [4, 5, 6], [4, 6, 7], [0, 1, 5], [0, 5, 4],
+                    [1, 2, 6], [1, 6, 5], [2, 3, 7], [2, 7, 6], [3, 0, 4], [3, 4, 7]])
+    return pts, tri
+
+
+def write_small_case(folder: Path, extra: str = "") -> Path:
+    pts, tri = box_mesh(BOX_LO, BOX_SIZE)
+    meshio.write_points_cells(folder / "box.stl", pts, [("triangle", tri)], binary=True)
+    sheet = np.array([[0.5, 0.5, SHEET_Z], [6.5, 0.5, SHEET_Z], [6.5, 4.5, SHEET_Z], [0.5, 4.5, SHEET_Z]])
+    meshio.write_points_cells(folder / "sheet.stl", sheet, [("triangle", np.array([[0, 1, 2], [0, 2, 3]]))])
+    case = folder / "case.toml"
+    case.write_text(f"""\
+title = "box and sheet"
+units = "mm"
+[spectrum]
+f_min = "{F_MIN / 1e9} GHz"
+f_max = "{F_MAX / 1e9} GHz"
+[[part]]
+name = "block"
+file = "box.stl"
+material = {{ eps_r = {EPS_BOX}, loss_tangent = 0.01 }}
+[[part]]
+name = "plate"
+file = "sheet.stl"
+material = "pec"
+[grid]
+cells_per_wavelength = {CPW}
+padding = {PAD}
+{extra}""")
+    return case
+
+
+@pytest.fixture(scope="module")
+def meshed(tmp_path_factory):
+    """Run ``ringprint mesh`` once on the small case; share the result (capsys is
+    function-scoped, so the streams are captured by hand)."""
+    folder = tmp_path_factory.mktemp("small")
+    case = write_small_case(folder)
+    out = folder / "out"
+    stdout, stderr = io.StringIO(), io.StringIO()
+    with contextlib.redirect_stdout(stdout), contextlib.redirect_stderr(stderr):
+        code = cli.main(["mesh", str(case), "--out", str(out)])
+    return {"code": code, "out": out, "case": case, "stdout": stdout.getvalue(),
+            "stderr": stderr.getvalue()}
+
+
+def test_exit_code_and_files(meshed):
+    assert meshed["code"] == 0, meshed["stderr"]
+    assert meshed["stderr"] == ""
+    names = sorted(p.name for p in meshed["out"].iterdir())
+    assert names == ["case.resolved.toml", "model.png", "model.vti"]
+
+
+def test_summary_names_parts_with_triangles_kind_volume(meshed):
+    text = meshed["stdout"]
+    block = re.search(r"1\. block: (\d+) triangles, closed solid, volume ([0-9.e+-]+) mm\^3", text)
+    assert block, text
+    assert int(block.group(1)) == 12
+    exact = float(np.prod(BOX_SIZE))  # a box's volume is the product of its sides
+    assert float(block.group(2)) == pytest.approx(exact, rel=1e-9)
+    plate = re.search(r"2\. plate: (\d+) triangles, open sheet", text)
+    assert plate and int(plate.group(1)) == 2, text
+    assert "open surface" in text  # the sheet's note from the surface checks
+    assert re.search(r"^grid: \d+ x \d+ x \d+ cells = [\d,]+, cell [0-9.]+ mm", text, re.M), text
+    for label in ("time step:", "memory:", "run time: about", "written:"):
+        assert label in text
+
+
+def _grid_from_image(image):
+    nx, ny, nz = image.dimensions
+    ox, oy, oz = image.origin
+    hx, hy, hz = image.spacing
+    return (ox + hx * np.arange(nx), oy + hy * np.arange(ny), oz + hz * np.arange(nz))
+
+
+def test_voxel_image_round_trips_and_counts_the_box(meshed):
+    image = pv.read(meshed["out"] / "model.vti")
+    assert list(image.field_data["part_names"]) == ["air", "block", "plate"]
+    ids = np.asarray(image.cell_data["part_id"])
+    x, y, z = _grid_from_image(image)
+    h = x[1] - x[0]
+    cell_mm = C0 / (F_MAX * math.sqrt(EPS_BOX) * CPW) * 1e3  # cell size rule of meshing.cell_size
+    assert h * 1e3 == pytest.approx(cell_mm, rel=1e-12)
+    # part coordinates in metres; the grid is centred on the union of the parts' boxes
+    lo = BOX_LO * 1e-3
+    hi = (BOX_LO + BOX_SIZE) * 1e-3
+    counts = []
+    for a, l, u in zip((x, y, z), lo, hi):
+        centres = (a[:-1] + a[1:]) / 2
+        assert np.min(np.abs(np.concatenate([centres - l, centres - u]))) > 1e-3 * h, "tie"
+        counts.append(int(np.count_nonzero((centres > l) & (centres < u))))
+    n_box = int(np.count_nonzero(ids == 1))
+    assert n_box == counts[0] * counts[1] * counts[2]
+    side = BOX_SIZE * 1e-3
+    volume = float(np.prod(side))
+    bound = float(np.prod(side + h) - volume)
+    assert abs(n_box * h ** 3 - volume) <= bound
+    # cells inside the box see eps_r 4 on all 12 edges; air cells see 1
+    eps = np.asarray(image.cell_data["eps_r"])
+    assert eps.max() == pytest.approx(EPS_BOX, rel=1e-6)
+    assert np.all(eps[ids == 0] >= 1.0 - 1e-6)
+    cond = np.asarray(image.cell_data["conductor"])
+    assert np.array_equal(cond == 1, ids == 2)
+    # the plate is one layer of cells whose count matches its outline, and its cells
+    # carry PEC edges
+    plate = ids.reshape(tuple(len(a) - 1 for a in (x, y, z)), order="F") == 2
+    layers = np.flatnonzero(plate.any(axis=(0, 1)))
+    assert layers.size == 1
+    assert np.all(np.asarray(image.cell_data["pec_edges"])[ids == 2] > 0)
+
+
+def test_preview_is_not_blank(meshed):
+    rgba = mpimg.imread(meshed["out"] / "model.png")
+    rgb = np.round(rgba[..., :3] * 255).astype(np.int64).reshape(-1, 3)
+    background = np.all(rgb == 255, axis=1)
+    assert 0.02 < 1 - background.mean() < 0.98
+    bins = rgb // 16  # coarse bins so anti-aliasing shades do not count
+    colours = np.unique(bins[:, 0] * 256 + bins[:, 1] * 16 + bins[:, 2])
+    assert len(colours) >= 6
+
+
+def test_resolved_case_loads_back_to_the_same_case(meshed):
+    original = load_case(meshed["case"])
+    again = load_case(meshed["out"] / "case.resolved.toml")
+    assert again.digest() == original.digest()
+
+
+def test_run_time_estimate_follows_its_basis(meshed):
+    from ringprint.analysis.cmd_mesh import COURANT, run_time_estimate
+    from ringprint.analysis.model import build_model
+    from ringprint.fdtd import GaussianPulse
+
+    model = build_model(load_case(meshed["case"]))
+    est = run_time_estimate(model, throughput=1e7)
+    h = model.grid.cell
+    assert est["dt_s"] == pytest.approx(COURANT * h / (C0 * math.sqrt(3)), rel=1e-12)
+    ringdown = 200.0 / (math.pi * F_MIN)  # default q_max 200: 1/e time Q / (pi f)
+    assert est["ringdown_s"] == pytest.approx(ringdown, rel=1e-12)
+    expected = math.ceil((GaussianPulse(F_MIN, F_MAX).t_end + ringdown) / est["dt_s"])
+    assert est["steps"] == expected
+    cells = np.prod([n - 1 for n in model.grid.shape])
+    assert est["seconds"] == pytest.approx(cells * expected / 1e7, rel=1e-12)
+    assert f"{est['steps']:,} steps" in meshed["stdout"]
+
+
+def test_default_out_dir_is_beside_the_case(tmp_path, capsys):
+    case = write_small_case(tmp_path, extra="[analysis]\nq_max = 50\n")
+    assert cli.main(["mesh", str(case)]) == 0
+    out = tmp_path / "case_mesh"
+    assert sorted(p.name for p in out.iterdir()) == ["case.resolved.toml", "model.png", "model.vti"]
+    assert str(out / "model.vti") in capsys.readouterr().out
+
+
+def test_demo_case_meshes(tmp_path, capsys):
+    """The asset-tag demo meshes in a few seconds on this machine (~5 s measured)."""
+    case = REPO / "cases" / "tag" / "case.toml"
+    assert cli.main(["mesh", str(case), "--out", str(tmp_path / "tag")]) == 0
+    text = capsys.readouterr().out
+    for name in ("ground plane", "shield can", "coin-cell holder", "flex strip", "housing"):
+        assert name in text
+    image = pv.read(tmp_path / "tag" / "model.vti")
+    ids = np.asarray(image.cell_data["part_id"])
+    assert set(np.unique(ids)) == {0, 1, 2, 3, 4, 5}  # every part owns cells
