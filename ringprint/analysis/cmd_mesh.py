@@ -30,8 +30,10 @@ from ringprint.meshing import available_memory
 #: Courant factor the time step is quoted for (the solver's default, fdtd.courant_time_step).
 COURANT = 0.99
 #: Solver throughput (cell updates per second, absorbing layer included) assumed for the
-#: run-time estimate: a conservative figure from ``ringprint bench`` on this project's
-#: 2-core machine (see ``run_time_estimate``).
+#: run-time estimate. Measured with ``ringprint.fdtd.bench.run_benchmark`` (CPML on all
+#: faces) on the project's 2-core machine on 2026-12-01 while other work shared it:
+#: 1.8 Mcells/s at 80^3, 4.2-5.2 Mcells/s at 120^3. Re-measure with ``ringprint bench``
+#: when the solver changes and update this figure.
 THROUGHPUT_CELLS_PER_S = 4.0e6
 FILES = ("model.vti", "model.png", "case.resolved.toml")
 
@@ -101,19 +103,29 @@ def _part_rows(model: Model, owners: np.ndarray) -> list[str]:
         material = p.part.material_name or p.part.material.name
         medium = "perfect conductor" if is_pec else f"eps_r {eps:g}, sigma {sigma:.3g} S/m"
         bodies = f"{len(p.surfaces)} bodies, " if len(p.surfaces) > 1 else ""
-        line = (f"  {i + 1}. {p.name}: {bodies}{triangles} triangles, "
-                f"{'closed solid' if kinds == ['solid'] else 'open sheet' if kinds == ['sheet'] else '+'.join(kinds)}")
-        if "solid" in kinds:
+        kind = {("solid",): "closed solid", ("sheet",): "open sheet"}.get(tuple(kinds), "+".join(kinds))
+        line = f"  {i + 1}. {p.name}: {bodies}{triangles} triangles, {kind}"
+        n_cells = int(counts[i + 1])
+        if not voxel_image.shows_crossed_cells(p):
             volume = sum(s.volume for s in p.surfaces) / case.unit_m ** 3
-            line += f", volume {volume:.10g} {u}^3"  # the mesh volume is exact: show it so
-        line += (f", voxels {counts[i + 1] * cell_volume / case.unit_m ** 3:.4g} {u}^3 "
-                 f"({counts[i + 1]} cells)")
+            voxels = n_cells * cell_volume / case.unit_m ** 3
+            # the mesh volume is exact (divergence theorem): enough digits to show it
+            line += f", volume {volume:.10g} {u}^3, voxels {voxels:.4g} {u}^3 ({n_cells} cells)"
+        else:
+            if "solid" in kinds:
+                volume = sum(s.volume for s in p.surfaces) / case.unit_m ** 3
+                line += f", volume {volume:.10g} {u}^3"
+            line += f", {n_cells} cells crossed"
         rows.append(line)
         rows.append(f"     size {size} {u} (from {_length(lo[0], case)}, {_length(lo[1], case)}, "
                     f"{_length(lo[2], case)}), material {material} ({medium})")
         notes = [n for s in p.surfaces for n in s.notes]
         if p.thin:
-            notes.append("thinner than one cell: staircased to whole cells")
+            notes.append("thinner than one cell, so staircased to whole edges; the voxel model "
+                         "shows every cell its surface crosses")
+        elif voxel_image.shows_crossed_cells(p) and "solid" in kinds:
+            notes.append("a conductor under 1.5 cells thick: the edges its surface cuts are made "
+                         "conducting too; the voxel model shows every cell its surface crosses")
         if counts[i + 1] == 0:
             notes.append("owns no cell in the voxel model (hidden by another part, or smaller than a cell)")
         rows.extend(f"     note: {n}" for n in notes)

@@ -34,7 +34,7 @@ from ringprint import meshing
 from ringprint.analysis.model import Model
 from ringprint.errors import RingprintError
 
-__all__ = ["cell_centres", "cell_owners", "cell_eps_r", "cell_pec_edges", "voxel_image",
+__all__ = ["cell_centres", "cell_owners", "shows_crossed_cells", "cell_eps_r", "cell_pec_edges", "voxel_image",
            "material_label", "material_colours", "render_preview"]
 
 #: Okabe & Ito's palette for colour-blind readers (orange, sky blue, bluish green,
@@ -70,6 +70,13 @@ def _crossed_cells(ids, surface, grid, pid):
         _paint(ids, box, box.data, pid)
 
 
+def shows_crossed_cells(part_model) -> bool:
+    """True when the part owns every cell it crosses (a sheet, a thin part, or a
+    conductor the model gave a surface-cut mask), not only the cells it contains."""
+    return (part_model.thin or any(s.kind == "sheet" for s in part_model.surfaces)
+            or any(f.cuts is not None for f in part_model.fills))
+
+
 def cell_owners(model: Model) -> np.ndarray:
     """Part id of every cell, int32 of shape (Nx-1, Ny-1, Nz-1); rules in the module doc.
 
@@ -94,11 +101,11 @@ def cell_owners(model: Model) -> np.ndarray:
     order = sorted(range(len(model.parts)), key=lambda i: (model.parts[i].part.priority, i))
     for i in order:
         p = model.parts[i]
-        for k, surface in enumerate(p.surfaces):
-            fill = p.fills[k] if k < len(p.fills) else None
+        crossed = shows_crossed_cells(p)
+        for surface in p.surfaces:
             if surface.kind == "solid":
                 _centre_cells(ids, surface, grid, i + 1)
-            if surface.kind == "sheet" or p.thin or (fill is not None and fill.cuts is not None):
+            if surface.kind == "sheet" or crossed:
                 _crossed_cells(ids, surface, grid, i + 1)
     return ids
 
