@@ -226,11 +226,11 @@ def render_preview(model: Model, image, path, window_size=(1200, 900)) -> None:
         plotter = pv.Plotter(off_screen=True, window_size=list(window_size))
         try:
             plotter.set_background("white")
-            legend = []
-            for i, p in enumerate(model.parts):
+            legend = [[f"{p.name} ({material_label(p)})", colours[i][0]] for i, p in enumerate(model.parts)]
+            # opaque conductors first, then the translucent dielectrics over them
+            for i in sorted(range(len(model.parts)), key=lambda i: colours[i][1] < 1.0):
                 cells = np.flatnonzero(owners == i + 1)
                 colour, opacity = colours[i]
-                legend.append([f"{p.name} ({material_label(p)})", colour])
                 if cells.size == 0:
                     continue
                 plotter.add_mesh(image.extract_cells(cells), color=colour, opacity=opacity, specular=0.5 if opacity == 1 else 0.0,
