@@ -34,8 +34,8 @@ from ringprint import meshing
 from ringprint.analysis.model import Model
 from ringprint.errors import RingprintError
 
-__all__ = ["cell_centres", "cell_owners", "shows_crossed_cells", "cell_eps_r", "cell_pec_edges", "voxel_image",
-           "material_label", "material_colours", "render_preview"]
+__all__ = ["cell_centres", "cell_owners", "shows_crossed_cells", "cell_eps_r", "cell_pec_edges",
+           "voxel_image", "material_label", "material_colours", "render_preview"]
 
 #: Okabe & Ito's palette for colour-blind readers (orange, sky blue, bluish green,
 #: yellow, blue, vermillion, reddish purple), used for dielectric materials in turn.
@@ -233,7 +233,8 @@ def render_preview(model: Model, image, path, window_size=(1200, 900)) -> None:
                 colour, opacity = colours[i]
                 if cells.size == 0:
                     continue
-                plotter.add_mesh(image.extract_cells(cells), color=colour, opacity=opacity, specular=0.5 if opacity == 1 else 0.0,
+                plotter.add_mesh(image.extract_cells(cells), color=colour, opacity=opacity,
+                                 specular=0.5 if opacity == 1 else 0.0,
                                  smooth_shading=False)
             lo = np.array([a[0] for a in grid.axes])
             hi = np.array([a[-1] for a in grid.axes])

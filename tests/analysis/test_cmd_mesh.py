@@ -35,7 +35,10 @@ from ringprint.analysis.case import load_case
 
 REPO = Path(__file__).resolve().parents[2]
 BOX_LO = np.array([0.0, 0.0, 0.0])          # mm
-BOX_SIZE = np.array([7.25, 5.125, 3.625])  # mm; exact in float32 (binary STL), no ties
+# mm; exact in float32 (binary STL). The grid is centred on the box (the plate lies
+# within its x-y outline), so each x face sits 0.34 cell past a node: the end cells are
+# less than half inside and must not count (the rule is "centre inside", not "touched").
+BOX_SIZE = np.array([6.5, 5.125, 3.625])
 SHEET_Z = 6.2                               # mm, a plate above the box
 F_MIN, F_MAX, EPS_BOX, CPW, PAD = 2e9, 10e9, 4.0, 20, 3.0
 
@@ -54,7 +57,7 @@ def box_mesh(lo, size):
 def write_small_case(folder: Path, extra: str = "") -> Path:
     pts, tri = box_mesh(BOX_LO, BOX_SIZE)
     meshio.write_points_cells(folder / "box.stl", pts, [("triangle", tri)], binary=True)
-    sheet = np.array([[0.5, 0.5, SHEET_Z], [6.5, 0.5, SHEET_Z], [6.5, 4.5, SHEET_Z], [0.5, 4.5, SHEET_Z]])
+    sheet = np.array([[0.5, 0.5, SHEET_Z], [6.0, 0.5, SHEET_Z], [6.0, 4.5, SHEET_Z], [0.5, 4.5, SHEET_Z]])
     meshio.write_points_cells(folder / "sheet.stl", sheet, [("triangle", np.array([[0, 1, 2], [0, 2, 3]]))])
     case = folder / "case.toml"
     case.write_text(f"""\
