@@ -19,6 +19,7 @@ from ringprint.errors import RingprintError
 COMMANDS: list[tuple[str, str]] = [
     ("bench", "measure solver throughput against this machine's memory bandwidth"),
     ("mesh", "mesh a case and show the grid, memory and run time, without running it"),
+    ("run", "find every resonance of a case with its Q and judge it against the bands"),
 ]
 
 

@@ -1,0 +1,122 @@
+"""From a ring-down record to the list of modes, judged against the bands and the Chu bound.
+
+Rules (the report cites them):
+
+- **Inversion**: every pickup's ring-down (from the first sample after the source)
+  is scaled to unit peak, so E, H and EMF records weigh alike, and all of them are
+  fitted with one shared set of poles over [f_min, f_max] by filter
+  diagonalization (:func:`ringprint.analysis.harmonic_inversion`), which already
+  drops poles outside the window, growing ones, ones with negligible amplitude and
+  ones whose error estimate is far above the record's resolution.
+- **Duplicates**: two poles closer than ``DUPLICATE_SPACING`` times the larger of
+  their half-power bandwidths ``f/(2Q)`` and their error estimates are one mode; the
+  stronger is kept.
+- **Strength**: ``amplitude`` is the mode's amplitude in the probe's own EMF record
+  relative to the strongest mode there (1 = the strongest); ``visibility`` is the
+  same ratio taken in the pickup that sees the mode best.
+- **Confidence**: ``high`` when the relative error is below 1e-4 and the mode is
+  visible above 1e-3 somewhere, ``medium`` when the error is below 1e-2, else ``low``.
+- **Chu bound**: ``q_chu = 1/(ka)^3 + 1/(ka)`` with ``a`` the radius of the smallest
+  sphere enclosing the whole assembly (Chu 1948; McLean 1996). A Q below it breaks
+  a physical law for a mode that radiates from within that sphere, so such a mode
+  gets a note (it signals a numerical problem, or a mode that is not a resonance of
+  the parts).
+"""
+
+from __future__ import annotations
+
+import numpy as np
+
+from ringprint.analysis.bands import STATUS_NAMES, judge, rank_hazards
+from ringprint.analysis.bounds import chu_q
+from ringprint.analysis.inversion import harmonic_inversion
+
+DUPLICATE_SPACING = 0.5
+HIGH_ERROR, MEDIUM_ERROR, VISIBLE = 1e-4, 1e-2, 1e-3
+
+
+def normalized_ringdown(ring) -> np.ndarray:
+    """The post-source part of every pickup record, each scaled to unit peak."""
+    sig = ring.signals[:, ring.start_index:]
+    peak = np.max(np.abs(sig), axis=1, keepdims=True)
+    keep = (peak[:, 0] > 0) & np.all(np.isfinite(sig), axis=1)
+    return sig[keep] / peak[keep], np.flatnonzero(keep)
+
+
+def find_resonances(ring, f_min: float, f_max: float):
+    """Resonances of the record (shared poles over all pickups), duplicates merged.
+
+    Returns ``(resonances, rows)``: ``rows`` maps each amplitude entry back to the
+    pickup row of ``ring.signals``.
+    """
+    sig, rows = normalized_ringdown(ring)
+    res = [r for r in harmonic_inversion(sig, ring.dt, f_min, f_max) if r.q > 0]
+    return _merge_duplicates(res), rows
+
+
+def _merge_duplicates(res):
+    out = []
+    for r in sorted(res, key=lambda r: r.frequency_hz):
+        if out:
+            prev = out[-1]
+            width = max(prev.frequency_hz / (2 * prev.q), r.frequency_hz / (2 * r.q),
+                        prev.error * prev.frequency_hz, r.error * r.frequency_hz)
+            if abs(r.frequency_hz - prev.frequency_hz) < DUPLICATE_SPACING * width:
+                if np.max(np.abs(r.amplitude)) > np.max(np.abs(prev.amplitude)):
+                    out[-1] = r
+                continue
+        out.append(r)
+    return out
+
+
+def _confidence(error: float, visibility: float) -> str:
+    if error < HIGH_ERROR and visibility > VISIBLE:
+        return "high"
+    return "medium" if error < MEDIUM_ERROR else "low"
+
+
+def mode_table(res, rows, probe_row: int, radius_m: float, bands, margin: float):
+    """The ``modes`` and ``hazards`` lists of modes.json (see ringprint.analysis.report)."""
+    if not res:
+        return [], []
+    amps = np.abs(np.stack([r.amplitude for r in res]))          # (modes, signals)
+    strongest = np.max(amps, axis=0)
+    rel = np.divide(amps, strongest, out=np.zeros_like(amps), where=strongest > 0)
+    probe_col = np.flatnonzero(rows == probe_row)
+    at_probe = rel[:, probe_col[0]] if probe_col.size else np.full(len(res), np.nan)
+    f = np.array([r.frequency_hz for r in res])
+    q = np.array([r.q for r in res])
+    q_chu = np.asarray(chu_q(f, radius_m)) if radius_m > 0 else np.full(f.shape, np.nan)
+    verdict = judge(f, q, [b.low_hz for b in bands], [b.high_hz for b in bands], margin) \
+        if bands else None
+    modes = []
+    for k, r in enumerate(res):
+        vis = float(np.max(rel[k]))
+        entry = {
+            "index": k + 1,
+            "frequency_hz": float(r.frequency_hz),
+            "q": float(r.q),
+            "decay_rate_per_s": float(r.decay_rate),
+            "amplitude": float(at_probe[k]) if np.isfinite(at_probe[k]) else 0.0,
+            "visibility": vis,
+            "error": float(r.error),
+            "confidence": _confidence(r.error, vis),
+            "q_chu": float(q_chu[k]) if np.isfinite(q_chu[k]) else None,
+            "q_over_chu": float(q[k] / q_chu[k]) if np.isfinite(q_chu[k]) else None,
+            "below_chu": bool(np.isfinite(q_chu[k]) and q[k] < q_chu[k]),
+            "bands": [],
+            "participation": {},
+        }
+        if verdict is not None:
+            entry["bands"] = [{"band": b.name, "status": STATUS_NAMES[verdict.status[k, j]],
+                               "distance_percent": float(verdict.distance_percent[k, j]),
+                               "overlap": float(verdict.overlap[k, j])}
+                              for j, b in enumerate(bands)]
+        modes.append(entry)
+    hazards = []
+    if verdict is not None:
+        for rank, (m, j) in enumerate(rank_hazards(verdict), start=1):
+            hazards.append({"mode": int(m) + 1, "band": bands[j].name,
+                            "status": STATUS_NAMES[verdict.status[m, j]],
+                            "distance_percent": float(verdict.distance_percent[m, j]), "rank": rank})
+    return modes, hazards

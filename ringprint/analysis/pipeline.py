@@ -1,0 +1,174 @@
+"""``ringprint run``: one case from files to resonance list, hazards and report.
+
+Stages: read and validate the case; mesh it (:mod:`ringprint.analysis.model`);
+place the probe and pickups (:mod:`~ringprint.analysis.placement`); ring it
+(:mod:`~ringprint.analysis.ringdown`); invert the ring-down and judge the modes
+(:mod:`~ringprint.analysis.modes`); write the results
+(:mod:`~ringprint.analysis.report`). A killed run continues with ``resume=True``.
+"""
+
+from __future__ import annotations
+
+import logging
+import sys
+import time
+from pathlib import Path
+
+import numpy as np
+
+from ringprint import __version__
+from ringprint.analysis import placement, ringdown
+from ringprint.analysis.bounds import enclosing_sphere
+from ringprint.analysis.case import load_case
+from ringprint.analysis.model import build_model
+from ringprint.analysis.modes import find_resonances, mode_table
+from ringprint.analysis.outputs import RunLogHandler, atomic_write_text, prepare_output_dir
+from ringprint.analysis.report import format_summary_table, write_results
+
+log = logging.getLogger("ringprint.run")
+
+
+def default_out_dir(case_path) -> Path:
+    p = Path(case_path)
+    return p.with_name(p.stem + "_run")
+
+
+class _Progress:
+    """One bar across meshing (0-10 %), stepping (10-90 %) and analysis (90-100 %)."""
+
+    def __init__(self, show: bool):
+        self.bar = None
+        if show:
+            from tqdm import tqdm
+            self.bar = tqdm(total=1000, unit="‰", bar_format="{desc:<10} {percentage:3.0f}%|{bar}| "
+                                                              "[{elapsed}<{remaining}]", file=sys.stderr)
+
+    def at(self, fraction: float, what: str):
+        if self.bar is not None:
+            self.bar.set_description_str(what, refresh=False)
+            self.bar.update(max(0, int(1000 * fraction) - self.bar.n))
+
+    def close(self):
+        if self.bar is not None:
+            self.bar.close()
+
+
+def _case_summary(case, model) -> dict:
+    parts = []
+    for p in model.parts:
+        parts.append({"name": p.name, "material": p.part.material_name or p.part.material.name,
+                      "kind": ", ".join(sorted({s.kind for s in p.surfaces})),
+                      "triangles": int(sum(s.n_triangles for s in p.surfaces)),
+                      "volume_m3": float(sum(s.volume for s in p.surfaces)),
+                      "thinner_than_a_cell": bool(p.thin)})
+    return {"name": case.source.stem, "title": case.title, "file": str(case.source),
+            "digest": case.digest(), "parts": parts,
+            "spectrum": {"f_min_hz": case.spectrum.f_min_hz, "f_max_hz": case.spectrum.f_max_hz}}
+
+
+def _grid_summary(model) -> dict:
+    g = model.grid
+    return {"nodes": list(g.shape), "cells": int(np.prod(np.subtract(g.shape, 1))),
+            "step_min_m": float(g.cell), "step_max_m": float(g.cell),
+            "cpml_cells": int(g.boundary_cells), "padding_m": float(g.padding),
+            "origin_m": [float(g.x[0]), float(g.y[0]), float(g.z[0])]}
+
+
+def run_case(case_path, out_dir=None, resume: bool = False, progress: bool | None = None,
+             checkpoint_every_s: float = 300.0, allow_memory: bool = False,
+             halt_after_steps: int | None = None, echo=print) -> dict:
+    """Run one case end to end and write its results; returns the modes.json summary.
+
+    Parameters
+    ----------
+    case_path : path
+        The case file.
+    out_dir : path or None
+        Results directory (default ``<case stem>_run`` beside the case file).
+    resume : bool
+        Continue from the checkpoint in ``out_dir`` (same case digest required).
+    progress : bool or None
+        Progress bar on stderr; None: only on a terminal.
+    checkpoint_every_s : float
+        Seconds between checkpoints of a long run.
+    allow_memory : bool
+        Run even when the memory estimate exceeds what is available.
+    halt_after_steps : int or None
+        Stop after this many steps, leaving a checkpoint (tests of ``resume``).
+    echo : callable
+        Where the final summary table goes (None: nowhere).
+    """
+    t_start = time.perf_counter()
+    case = load_case(case_path)
+    out = prepare_output_dir(out_dir if out_dir is not None else default_out_dir(case_path))
+    digest = case.digest()
+    sim = ringdown.load_checkpoint(out, digest) if resume else None  # refuse early
+    handler = RunLogHandler(out)
+    log.addHandler(handler)
+    log.setLevel(logging.INFO)
+    bar = _Progress(sys.stderr.isatty() if progress is None else progress)
+    try:
+        log.info("ringprint %s, case %s (digest %s)", __version__, case.source, digest[:16])
+        bar.at(0.0, "meshing")
+        model = build_model(case, allow_memory=allow_memory,
+                            progress=lambda d, n, what: bar.at(0.1 * d / n, "meshing"))
+        for note in model.warnings:
+            log.warning(note)
+        log.info("grid %s nodes, cell %.4g m", model.grid.shape, model.grid.cell)
+        if sim is None:
+            probe = placement.place_probe(model)
+            pickups = placement.pickup_points(model)
+            sim = ringdown.build_simulation(model, probe, pickups)
+        else:
+            src = sim.sources[0]
+            probe = placement.ProbePlacement(tuple(src.center), src.normal, src.size_cells, "checkpoint")
+            log.info("resumed at step %d", sim.step_index)
+        log.info("probe at %s m, normal %s, %d cell(s) (%s); %d pickups", probe.center, probe.normal,
+                 probe.size_cells, probe.chosen, len(sim.pickups))
+        ring = ringdown.ring(model, sim, out, digest, checkpoint_every_s,
+                             progress=lambda s, n: bar.at(0.1 + 0.8 * s / n, "stepping"),
+                             halt_after_steps=halt_after_steps)
+        log.info("%d steps, dt %.4g s, stopped on %s, %.1f s", ring.steps, ring.dt, ring.stop_reason,
+                 ring.wall_time_s)
+        bar.at(0.9, "analysis")
+        res, rows = find_resonances(ring, case.spectrum.f_min_hz, case.spectrum.f_max_hz)
+        _centre, radius = enclosing_sphere(model.vertices())
+        bands = list(case.bands)
+        modes, hazards = mode_table(res, rows, ring.probe_signal, radius, bands,
+                                    case.analysis.detuning_margin)
+        notes = list(model.warnings)
+        notes += [f"mode {m['index']}: Q {m['q']:.3g} is below the Chu bound {m['q_chu']:.3g}; "
+                  "treat it as suspect" for m in modes if m["below_chu"]]
+        summary = {
+            "case": _case_summary(case, model),
+            "grid": _grid_summary(model),
+            "modes": modes,
+            "hazards": hazards,
+            "chu_sphere": {"radius_m": float(radius)},
+            "run": {"steps": int(ring.steps), "dt_s": float(ring.dt),
+                    "wall_time_s": float(time.perf_counter() - t_start),
+                    "stepping_time_s": float(ring.wall_time_s),
+                    "memory_bytes": int(model.memory["total"]), "stop_reason": ring.stop_reason,
+                    "ringdown_start_s": float(ring.start_index * ring.dt),
+                    "probe": {"center_m": list(probe.center), "normal": probe.normal,
+                              "size_cells": probe.size_cells, "placed": probe.chosen},
+                    "pickups": ring.names},
+            "notes": notes,
+        }
+        spectrum = {"record": ring.signals[ring.probe_signal], "dt_s": ring.dt,
+                    "start_index": ring.start_index}
+        atomic_write_text(out / "case.resolved.toml", case.resolved_toml())
+        log.info("%d modes, %d hazards", len(modes), len(hazards))
+        handler.flush()
+        write_results(out, summary, spectrum, bands, log_lines=None)
+        ringdown.remove_checkpoint(out)
+        bar.at(1.0, "done")
+    finally:
+        bar.close()
+        handler.flush()
+        log.removeHandler(handler)
+        handler.close()
+    if echo is not None:
+        echo(format_summary_table(summary))
+        echo(f"results in {out}")
+    return summary
