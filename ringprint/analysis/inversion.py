@@ -12,7 +12,7 @@ __all__ = ["Resonance", "harmonic_inversion"]
 
 _MIN_SAMPLES = 24
 _MIN_HALF = 8          # smallest M (half the decimated length) to analyse
-_SHORTER = (0.85, 0.7)  # pieces of the record used to check that poles stay put
+_SHORTER = (0.9, 0.8)    # pieces of the record used to check that poles stay put
 _ERROR_CELLS = 0.02     # default max_error: this fraction of max(1/T, line width)
 
 
@@ -78,8 +78,8 @@ def harmonic_inversion(signal, dt, f_min, f_max, *, density=1.2, basis_per_windo
         Sorted by frequency. ``amplitude`` holds one complex ``d_k`` per signal, referred
         to the first sample; ``error`` is ``|dw| / |Re w|`` where ``|dw|`` is the larger of
         the disagreement between ``u_k^2`` and the pencil ``(U2, U0)`` on the same
-        eigenvector, and the distance to the nearest pole found again from the first 85 %
-        and 70 % of the record decimated by other factors.
+        eigenvector, and the distance to the nearest pole found again from the first 90 %
+        and 80 % of the record decimated by other factors.
 
     Raises
     ------

@@ -123,7 +123,7 @@ def test_thresholds_are_applied():
     (dict(f_min=1.5e9, f_max=1.0e9), "f_min = 1.5e+09"),
     (dict(f_max=6e9), "Nyquist"),
     (dict(f_min=-1e9), "f_min = -1e+09"),
-    (dict(signal=np.cos(np.arange(25.0))), "too short"),
+    (dict(signal=np.cos(np.arange(24.0))), "too short"),
 ])
 def test_bad_input_one_line_error(kwargs, word):
     args = dict(signal=damped([(1.2e9, 300, 1.0)]), dt=DT, f_min=1.0e9, f_max=1.5e9)
