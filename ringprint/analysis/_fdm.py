@@ -174,7 +174,7 @@ def window_poles(x: np.ndarray, tau: float, lo: float, hi: float, *, density: fl
     phis = [2 * np.pi * tau * np.arange(a - margin, b + margin + 0.5 * step, step)
             for a, b in zip(edges[:-1], edges[1:])]
     sums = fourier_sums(x, np.concatenate(phis), m)
-    out_w, out_amp, out_du, out_in = [], [], [], []
+    out_w, out_amp, out_du, out_in, out_win = [], [], [], [], []
     start = 0
     for i, phi in enumerate(phis):
         part = sums[..., start:start + phi.size]
@@ -184,10 +184,17 @@ def window_poles(x: np.ndarray, tau: float, lo: float, hi: float, *, density: fl
         u, amp, du = u[ok], amp[ok], du[ok]
         w = 1j * np.log(u) / tau
         f = w.real / (2 * np.pi)
-        upper = (f <= edges[i + 1]) if i == n_win - 1 else (f < edges[i + 1])
+        slack = 0.01 * step                     # a pole on an edge may land either side
         out_w.append(w)
         out_amp.append(amp)
         out_du.append(du / np.abs(u))
-        out_in.append((f >= edges[i]) & upper)
-    return (np.concatenate(out_w), np.concatenate(out_amp), np.concatenate(out_du),
-            np.concatenate(out_in))
+        out_in.append((f >= edges[i] - slack) & (f <= edges[i + 1] + slack))
+        out_win.append(np.full(w.size, i))
+    w, du, inside, win = (np.concatenate(a) for a in (out_w, out_du, out_in, out_win))
+    # a pole claimed by two neighbouring sub-windows: keep the better-determined one
+    cand = np.flatnonzero(inside)
+    cand = cand[np.argsort(w[cand].real)]
+    for a, b in zip(cand[:-1], cand[1:]):
+        if win[a] != win[b] and abs(w[a] - w[b]) < 2 * np.pi * 0.01 * step:
+            inside[b if du[b] > du[a] else a] = False
+    return w, np.concatenate(out_amp), du, inside
