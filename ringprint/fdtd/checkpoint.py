@@ -35,7 +35,7 @@ def save(sim, path) -> None:
         h.attrs["format"], h.attrs["version"] = FORMAT, VERSION
         settings = {"boundaries": sim.boundaries, "cpml_cells": sim.cpml_cells,
                     "courant": sim.courant, "dtype": sim.dtype.name, "f_max": sim.f_max,
-                    "cpml": sim.cpml_settings.to_dict()}
+                    "cpml": sim.cpml_settings.to_dict(), "energy_every": sim.energy_every}
         h.attrs["settings"] = json.dumps(settings)
         h.attrs["sources"] = json.dumps([s.to_dict() for s in sim.sources])
         h.attrs["pickups"] = json.dumps([[name, p.to_dict()] for name, p in sim.pickups.items()])
@@ -74,7 +74,7 @@ def load(cls, path):
                                   h["media/eps_r_table"][...], h["media/sigma_table"][...])
         sim = cls(grid, media, boundaries=st["boundaries"], cpml_cells=st["cpml_cells"],
                   courant=st["courant"], dtype=np.dtype(st["dtype"]), f_max=st["f_max"],
-                  cpml=CpmlSettings(**st["cpml"]))
+                  cpml=CpmlSettings(**st["cpml"]), energy_every=st["energy_every"])
         for d in json.loads(h.attrs["sources"]):
             sim.add_source(source_from_dict(d))
         for name, d in json.loads(h.attrs["pickups"]):

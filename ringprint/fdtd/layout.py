@@ -55,39 +55,56 @@ class Layout:
         return wn, wc
 
     # ----------------------------------------------------------------- CPML
-    def cpml_slabs(self):
-        """``(kind, comp, axis, coupled comp, sign, lo, hi)`` of every CPML correction.
+    def cpml_ranges(self, kind: str) -> np.ndarray:
+        """``(3, 4)`` array of ``(lo0, lo1, hi0, hi1)`` per axis: the node (``kind="e"``)
+        or cell (``"h"``) index ranges of the low and high CPML layers (empty when
+        the face is not CPML). E nodes on the outer wall are excluded."""
+        out = np.zeros((3, 4), np.int64)
+        for a in range(3):
+            n_lo, n_hi = self.cpml[a]
+            last = self.shape[a] - 1  # index of the last node = number of cells
+            if kind == "e":
+                out[a] = (1, max(n_lo, 1), last - n_hi + (n_hi > 0), last)
+            else:
+                out[a] = (0, n_lo, last - n_hi, last)
+        return out
 
-        For ``dF/dt ~ sign * dG/d(axis)`` in the curl: E terms ``(c, a=c+1) -> +H_{c+2}``,
+    def cpml_terms(self, kind: str):
+        """The 12 CPML terms ``(comp, axis, coupled comp, sign, side, (p0, p1))`` in the
+        order of the sweep kernels' psi tuple.
+
+        A term ``dF/dt ~ sign * dG/d(axis)`` of the curl: E terms ``(c, a=c+1) -> +H_{c+2}``,
         ``(c, a=c+2) -> -H_{c+1}``; H terms carry the opposite signs.
         """
-        n_nodes = self.shape
+        r = self.cpml_ranges(kind)
         out = []
-        for a in range(3):
-            for side, n in zip((-1, 1), self.cpml[a]):
-                if n == 0:
-                    continue
-                for c in range(3):
-                    if c == a:
-                        continue
-                    b = 3 - a - c
-                    plus = a == (c + 1) % 3
-                    g_axis = (c + 2) % 3 if plus else (c + 1) % 3
-                    # E correction: nodes along a, cells along c, active nodes along b
-                    lo, hi = [0, 0, 0], [0, 0, 0]
-                    lo[a], hi[a] = (1, n) if side < 0 else (n_nodes[a] - n, n_nodes[a] - 1)
-                    lo[c], hi[c] = 0, n_nodes[c] - 1
-                    lo[b], hi[b] = self.act_lo[b], self.act_hi[b]
-                    if hi[a] > lo[a]:
-                        out.append(("e", "E" + AXES[c], a, "H" + AXES[g_axis], 1 if plus else -1,
-                                    tuple(lo), tuple(hi)))
-                    # H correction: cells along a, nodes along c, cells along b
-                    lo, hi = [0, 0, 0], [0, 0, 0]
-                    lo[a], hi[a] = (0, n) if side < 0 else (n_nodes[a] - 1 - n, n_nodes[a] - 1)
-                    lo[c], hi[c] = 0, n_nodes[c]
-                    lo[b], hi[b] = 0, n_nodes[b] - 1
-                    out.append(("h", "H" + AXES[c], a, "E" + AXES[g_axis], -1 if plus else 1,
-                                tuple(lo), tuple(hi)))
+        for c in range(3):
+            for a in sorted(((c + 1) % 3, (c + 2) % 3)):
+                plus = a == (c + 1) % 3
+                g_axis = (c + 2) % 3 if plus else (c + 1) % 3
+                sign = (1 if plus else -1) * (1 if kind == "e" else -1)
+                other = "H" if kind == "e" else "E"
+                for side in (0, 1):
+                    out.append((kind.upper() + AXES[c], a, other + AXES[g_axis], sign, side,
+                                (int(r[a][2 * side]), int(r[a][2 * side + 1]))))
+        return out
+
+    def wall_rows(self, comp: str, axis: int, span):
+        """Regions ``(lo, hi)`` of an E CPML term on PMC walls (not visited by the
+        main sweep): the layer span along ``axis``, all cells along the component,
+        the wall nodes along the third axis."""
+        c = AXES.index(comp[1])
+        b = 3 - c - axis
+        out = []
+        walls = ([0] if self.act_lo[b] == 0 else []) + \
+            ([self.shape[b] - 1] if self.act_hi[b] == self.shape[b] else [])
+        for w in walls:
+            lo, hi = [0, 0, 0], [0, 0, 0]
+            lo[axis], hi[axis] = span
+            lo[c], hi[c] = 0, self.shape[c] - 1
+            lo[b], hi[b] = w, w + 1
+            if span[1] > span[0]:
+                out.append((np.array(lo, np.int64), np.array(hi, np.int64)))
         return out
 
     # ----------------------------------------------------------------- PMC

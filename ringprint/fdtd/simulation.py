@@ -48,13 +48,17 @@ class Simulation:
         10 cells per wavelength (common practice) in the densest medium there.
     cpml : CpmlSettings, optional
         Grading of the CPML.
+    energy_every : int
+        Record the field energy (and run the energy guard) every this many steps
+        (default 10; the sum is fused into the sweeps but still costs about a
+        quarter of a step).
 
     Notes
     -----
     One step advances H from ``(n-1/2) dt`` to ``(n+1/2) dt`` and E from ``n dt`` to
     ``(n+1) dt``. The total field energy of the region outside the CPML is recorded
-    every step (it is summed inside the update sweeps, so it costs no extra pass)
-    in the half-step form ``(eps |E^n|^2 + mu0 H^(n-1/2) . H^(n+1/2)) / 2``, which the
+    every ``energy_every`` steps (summed inside the update sweeps, so it costs no
+    extra pass over memory) in the half-step form ``(eps |E^n|^2 + mu0 H^(n-1/2) . H^(n+1/2)) / 2``, which the
     Yee scheme conserves exactly in a lossless closed cavity (Taflove & Hagness).
 
     The run stops with a RingprintError when a field becomes non-finite, or when
@@ -70,7 +74,7 @@ class Simulation:
 
     def __init__(self, grid: Grid, media: Media, boundaries="cpml", cpml_cells: int = 10,
                  courant: float = 0.99, dtype=np.float32, f_max: float | None = None,
-                 cpml: CpmlSettings | None = None):
+                 cpml: CpmlSettings | None = None, energy_every: int = 10):
         if not isinstance(grid, Grid) or not isinstance(media, Media):
             raise RingprintError("Simulation needs a Grid and a Media built on it")
         if media.grid.shape != grid.shape:
@@ -84,6 +88,9 @@ class Simulation:
         self.cpml_settings = cpml or CpmlSettings()
         self.courant = float(courant)
         self.f_max = None if f_max is None else float(f_max)
+        self.energy_every = int(energy_every)
+        if self.energy_every < 1:
+            raise RingprintError(f"energy_every = {energy_every!r} must be an integer >= 1")
         self.layout = Layout(grid, self.boundaries, self.cpml_cells)
         self.dt = courant_time_step(grid, courant, media.eps_r_min)
         if f_max is not None:
@@ -95,7 +102,7 @@ class Simulation:
         self._src = []   # (source, component, flat idx, coef)
         self._pick = {}  # component -> [flat idx, weight, column]
         self._rec = np.zeros((0, 0))
-        self._energy = np.zeros(0)
+        self._energy = np.zeros(0)  # per step, NaN where not sampled
         self._guard_min = np.inf
         self._guard_peak = 0.0
 
@@ -116,6 +123,10 @@ class Simulation:
         ca, cb = self.media.coefficients(self.dt)
         self._ca, self._cb = ca.astype(ft), cb.astype(ft)
         self._epst = self.media.permittivity_table()
+        # per (i, j) row: its media index when uniform along k, else -1 (lets the
+        # sweep hoist the coefficients out of the row)
+        self._urows = tuple(np.where((m == m[:, :, :1]).all(axis=2), m[:, :, 0].astype(np.int32),
+                                     np.int32(-1)) for m in self.media.index)
         self._ch = ft.type(self.dt / MU0)
         self._chtab = np.array([self.dt / MU0], ft)
         self._inv_e, self._inv_h, self._prof = [], [], []
@@ -125,32 +136,39 @@ class Simulation:
             self._prof.append({k: v.astype(ft) for k, v in p.items()})
             self._inv_e.append((1.0 / (g.dual_spacing[a] * p["kappa_e"])).astype(ft))
             self._inv_h.append((1.0 / (g.spacing[a] * p["kappa_h"])).astype(ft))
-        self._wn, self._wc = lay.energy_weights()
-        self._slabs_e, self._slabs_h = [], []
-        for spec in lay.cpml_slabs():
-            self._add_slab(*spec)
-        self._boxes = lay.pmc_boxes()
+        self._wn = [w.astype(ft) for w in lay.energy_weights()[0]]
+        self._wc = [w.astype(ft) for w in lay.energy_weights()[1]]
+        self._boxes = [(c, lo, hi, tuple(x.astype(ft) for x in w)) for c, lo, hi, w in lay.pmc_boxes()]
+        self._build_cpml()
 
-    def _add_slab(self, kind, comp, axis, gcomp, sign, lo, hi):
-        g, ft, f = self.grid, self.dtype, self.fields
-        psi = np.zeros(tuple(h - l for l, h in zip(lo, hi)), ft)
-        prof = self._prof[axis]
-        if kind == "e":
-            inv = (1.0 / g.dual_spacing[axis]).astype(ft)
-            m = self.media.index["xyz".index(comp[1])]
-            args = (f[comp], f[gcomp], m, self._cb, True, psi, prof["b_e"], prof["a_e"], inv,
-                    axis, 0, -1, ft.type(sign))
-            self._slabs_e.append(args + tuple(v for pair in zip(lo, hi) for v in pair))
-        else:
-            inv = (1.0 / g.spacing[axis]).astype(ft)
-            args = (f[comp], f[gcomp], self.media.index[0], self._chtab, False, psi, prof["b_h"],
-                    prof["a_h"], inv, axis, 1, 0, ft.type(sign))
-            self._slabs_h.append(args + tuple(v for pair in zip(lo, hi) for v in pair))
+    def _build_cpml(self):
+        """CPML coefficients, psi arrays (only inside the layers) and wall rows."""
+        g, ft, lay, f = self.grid, self.dtype, self.layout, self.fields
+        self._pb_e = tuple(p["b_e"] for p in self._prof)
+        self._pa_e = tuple((p["a_e"] / g.dual_spacing[a]).astype(ft) for a, p in enumerate(self._prof))
+        self._pb_h = tuple(p["b_h"] for p in self._prof)
+        self._pa_h = tuple((p["a_h"] / g.spacing[a]).astype(ft) for a, p in enumerate(self._prof))
+        self._r_e, self._r_h = lay.cpml_ranges("e"), lay.cpml_ranges("h")
+        self._walls = []
+        psi = {"e": [], "h": []}
+        for kind in ("e", "h"):
+            for comp, axis, gcomp, sign, _side, span in lay.cpml_terms(kind):
+                shape = list(g.component_shape(comp))
+                shape[axis] = span[1] - span[0]
+                p = np.zeros(shape, ft)
+                psi[kind].append(p)
+                if kind == "e":
+                    m = self.media.index[AXES.index(comp[1])]
+                    for lo, hi in lay.wall_rows(comp, axis, span):
+                        self._walls.append((axis, f[comp], f[gcomp], m, self._cb, True, p,
+                                            self._pb_e[axis], self._pa_e[axis], span[0], 0,
+                                            ft.type(sign), lo, hi))
+        self._psi_e, self._psi_h = tuple(psi["e"]), tuple(psi["h"])
 
     @property
     def psi_arrays(self) -> list:
-        """The CPML auxiliary arrays (slabs only), E slabs then H slabs."""
-        return [s[5] for s in self._slabs_e] + [s[5] for s in self._slabs_h]
+        """The CPML auxiliary arrays (they exist only inside the layers)."""
+        return list(self._psi_e) + list(self._psi_h)
 
     def add_source(self, source) -> None:
         """Add a :class:`LoopSource` or :class:`DipoleSource` (before or between runs)."""
@@ -242,26 +260,29 @@ class Simulation:
             numba.set_num_threads(1)  # thread start-up would cost more than the sweep
         try:
             for n in range(n_steps):
+                en = (start + n) % self.energy_every == 0
                 wh = K.update_h(ex, ey, ez, hx, hy, hz, self._ch, ih[0], ih[1], ih[2], MU0,
-                                wn[0], wn[1], wn[2], wc[0], wc[1], wc[2])
-                for args in self._slabs_h:
-                    K.cpml_correct(*args)
-                we = K.update_e(ex, ey, ez, hx, hy, hz, mx, my, mz, self._ca, self._cb, self._epst,
-                                ie[0], ie[1], ie[2], wn[0], wn[1], wn[2], wc[0], wc[1], wc[2])
+                                wn[0], wn[1], wn[2], wc[0], wc[1], wc[2], mx, self._chtab,
+                                self._pb_h, self._pa_h, self._r_h, self._psi_h, en)
+                we = K.update_e(ex, ey, ez, hx, hy, hz, mx, my, mz, *self._urows, self._ca, self._cb,
+                                self._epst,
+                                ie[0], ie[1], ie[2], wn[0], wn[1], wn[2], wc[0], wc[1], wc[2],
+                                self._pb_e, self._pa_e, self._r_e, self._psi_e, en)
                 for comp, lo, hi, w in self._boxes:
                     we += K.update_e_box(comp, lo, hi, ex, ey, ez, hx, hy, hz, mx, my, mz, self._ca,
                                          self._cb, self._epst, ie[0], ie[1], ie[2], w[0], w[1], w[2])
-                for args in self._slabs_e:
-                    K.cpml_correct(*args)
+                for args in self._walls:
+                    K.cpml_rows(*args)
                 for (_s, comp, flat, coef), vals in zip(self._src, src_vals):
                     K.add_at(flats[comp], flat, coef, vals[n])
                 row = self._rec[start + n]
                 for comp, (idx, w, col) in self._pick.items():
                     K.gather(flats[comp], idx, w, col, row)
-                energy = 0.5 * (we + wh)
-                self._energy[start + n] = energy
                 self.step_index = start + n + 1
-                self._guard(energy, (start + n) * self.dt, t_end)
+                if en:
+                    energy = 0.5 * (we + wh)
+                    self._energy[start + n] = energy
+                    self._guard(energy, (start + n) * self.dt, t_end)
                 if bar is not None and (n % 16 == 15 or n == n_steps - 1):
                     bar.update(16 if n % 16 == 15 else (n % 16) + 1)
         finally:
@@ -294,7 +315,7 @@ class Simulation:
             rec = np.zeros((n_total, self._rec.shape[1]))
             rec[:self._rec.shape[0]] = self._rec
             self._rec = rec
-            energy = np.zeros(n_total)
+            energy = np.full(n_total, np.nan)
             energy[:self._energy.size] = self._energy
             self._energy = energy
 
@@ -303,14 +324,15 @@ class Simulation:
 
         Keys: each pickup name; ``"time"`` (``n dt``, n = 1..step_index: E pickups and
         loop EMFs), ``"time_h"`` (``(n - 1/2) dt``: H pickups); ``"energy"`` (J) with
-        ``"energy_time"`` (``n dt``, n = 0..step_index-1).
+        ``"energy_time"`` (``n dt`` for n = 0, k, 2k, ... < step_index, k = energy_every).
         """
         n = self.step_index
         out = {name: self._rec[:n, col].copy() for col, name in enumerate(self.pickups)}
         out["time"] = np.arange(1, n + 1) * self.dt
         out["time_h"] = out["time"] - 0.5 * self.dt
-        out["energy"] = self._energy[:n].copy()
-        out["energy_time"] = np.arange(n) * self.dt
+        sampled = np.arange(0, n, self.energy_every)
+        out["energy"] = self._energy[sampled]
+        out["energy_time"] = sampled * self.dt
         return out
 
     # ------------------------------------------------------------ checkpoints
