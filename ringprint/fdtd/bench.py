@@ -66,8 +66,8 @@ def benchmark_simulation(n: int, cpml_cells: int = 10) -> Simulation:
                       waveform=GaussianPulse(1e9, 20e9))
     sim.add_source(loop)
     sim.add_pickup(LoopEmfPickup.of(loop), "emf")
-    sim.add_pickup(FieldPickup("Ez", (c + 5 * d, c - 4 * d, c)), "ez")
-    sim.add_pickup(FieldPickup("Hx", (c - 4 * d, c + 6 * d, c + 2 * d), "trilinear"), "hx")
+    sim.add_pickup(FieldPickup("Ez", (c + 4 * d, c - 4 * d, c)), "ez")
+    sim.add_pickup(FieldPickup("Hx", (c - 4 * d, c + 3 * d, c + 2 * d), "trilinear"), "hx")
     return sim
 
 
