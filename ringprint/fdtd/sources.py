@@ -26,10 +26,14 @@ class GaussianPulse:
     late (``t0 = delay_widths * tau``, default 5: the envelope at t = 0 is
     exp(-25) ~ 1e-11 of the peak), so it turns on smoothly.
 
+    Because the pulse has no DC, its +f0 and -f0 lobes cancel towards 0 Hz: the
+    -20 dB coverage holds for bands with ``f_max / f_min`` up to about 20; split a
+    wider search into two runs.
+
     Parameters
     ----------
     f_min, f_max : float
-        Band edges in Hz, ``0 <= f_min < f_max``.
+        Band edges in Hz, ``0 < f_min < f_max``.
     amplitude : float
         Peak current in A.
     edge_db : float
@@ -45,9 +49,10 @@ class GaussianPulse:
     delay_widths: float = 5.0
 
     def __post_init__(self):
-        if not (np.isfinite(self.f_min) and np.isfinite(self.f_max) and 0 <= self.f_min < self.f_max):
+        if not (np.isfinite(self.f_min) and np.isfinite(self.f_max) and 0 < self.f_min < self.f_max):
             raise RingprintError(f"GaussianPulse band [{self.f_min!r}, {self.f_max!r}] Hz is invalid; "
-                                 "need 0 <= f_min < f_max")
+                                 "need 0 < f_min < f_max (the pulse carries no DC, so the band "
+                                 "starts above 0 Hz)")
         if not (-20.0 <= self.edge_db < 0.0):
             raise RingprintError(f"GaussianPulse edge_db = {self.edge_db!r} must be in [-20, 0)")
         if not (self.delay_widths >= 3.0):

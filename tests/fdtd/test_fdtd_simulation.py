@@ -1,0 +1,158 @@
+"""Simulation: refusals, stepping, records, energy bookkeeping and the guard."""
+
+from __future__ import annotations
+
+import numpy as np
+import pytest
+
+from ringprint.errors import RingprintError
+from ringprint.fdtd import (
+    C0, DipoleSource, FieldPickup, GaussianPulse, Grid, LoopEmfPickup, LoopSource, Media, Simulation)
+
+D = 1e-3
+PULSE = GaussianPulse(5e9, 25e9)
+
+
+def _cavity(dtype=np.float64, energy_every=1, eps_r=1.0, sigma=0.0):
+    grid = Grid.uniform((12, 10, 8), D)
+    sim = Simulation(grid, Media(grid, eps_r=eps_r, sigma=sigma), boundaries="pec", dtype=dtype,
+                     energy_every=energy_every)
+    sim.add_source(DipoleSource((3.5e-3, 3e-3, 2e-3), "Ex", PULSE))
+    sim.add_source(LoopSource((7e-3, 5e-3, 4e-3), "y", PULSE, size_cells=2))
+    sim.add_pickup(FieldPickup("Ez", (9e-3, 3e-3, 4.5e-3)), "ez")
+    sim.add_pickup(FieldPickup("Hy", (4.2e-3, 6.1e-3, 3.3e-3), "trilinear"), "hy")
+    sim.add_pickup(LoopEmfPickup((7e-3, 5e-3, 4e-3), "y", 2), "emf")
+    return sim
+
+
+def _open(**kw):
+    grid = Grid.uniform((30, 30, 30), D)
+    return Simulation(grid, Media(grid), **kw)
+
+
+# ------------------------------------------------------------------ refusals
+def test_f_max_too_high_for_the_grid():
+    grid = Grid.uniform((30, 30, 30), D)
+    media = Media(grid, eps_r=4.0)
+    ok = C0 / (10 * D * 2.0)  # 10 cells per wavelength in eps_r = 4 (common practice)
+    Simulation(grid, media, f_max=0.99 * ok)
+    with pytest.raises(RingprintError, match=r"f_max = 1\.6\d* ?e\+10 Hz is too high") as info:
+        Simulation(grid, media, f_max=1.1 * ok)
+    assert "eps_r 4" in str(info.value)
+
+
+def test_courant_factor_refused_by_the_simulation():
+    with pytest.raises(RingprintError, match="courant factor 1.0"):
+        _open(courant=1.0)
+
+
+@pytest.mark.parametrize("pos, word", [((40e-3, 15e-3, 15e-3), "outside the grid"),
+                                       ((15e-3, 5e-3, 15e-3), "CPML layer on face y-"),
+                                       ((15e-3, 15e-3, 25e-3), "CPML layer on face z+")])
+def test_source_outside_or_in_cpml(pos, word):
+    sim = _open()
+    with pytest.raises(RingprintError, match=word) as info:
+        sim.add_source(DipoleSource(pos, "Ez", PULSE))
+    assert "DipoleSource at (" in str(info.value)
+
+
+def test_loop_reaching_into_the_cpml():
+    sim = _open()
+    with pytest.raises(RingprintError, match="CPML"):
+        sim.add_source(LoopSource((11e-3, 15e-3, 15e-3), "z", PULSE, size_cells=4))
+
+
+def test_pickup_in_cpml_and_source_in_pec():
+    sim = _open()
+    with pytest.raises(RingprintError, match="FieldPickup 'p'"):
+        sim.add_pickup(FieldPickup("Hx", (2e-3, 15e-3, 15e-3)), "p")
+    grid = Grid.uniform((30, 30, 30), D)
+    pec = np.zeros(grid.component_shape("Ez"), bool)
+    pec[15, 15, :] = True
+    sim = Simulation(grid, Media(grid, pec=(False, False, pec)))
+    with pytest.raises(RingprintError, match="inside a PEC conductor"):
+        sim.add_source(DipoleSource((15e-3, 15e-3, 15.5e-3), "Ez", PULSE))
+
+
+def test_bad_boundaries_and_thick_layers():
+    with pytest.raises(RingprintError, match="x0"):
+        _open(boundaries={"x0": "pec"})
+    with pytest.raises(RingprintError, match="'absorb'"):
+        _open(boundaries="absorb")
+    with pytest.raises(RingprintError, match="too few"):
+        _open(cpml_cells=15)
+
+
+# ------------------------------------------------------------------ stepping
+def test_run_in_pieces_equals_one_run():
+    a, b = _cavity(), _cavity()
+    a.run(300, progress=False)
+    b.run(120, progress=False)
+    b.run(180, progress=False)
+    ra, rb = a.records(), b.records()
+    for key in ("ez", "hy", "emf", "energy", "time"):
+        assert np.array_equal(ra[key], rb[key])
+    assert a.step_index == b.step_index == 300 and a.time == pytest.approx(300 * a.dt)
+    assert ra["ez"].dtype == np.float64 and ra["ez"].size == 300
+    assert np.array_equal(a.get_field("Hz"), b.get_field("Hz"))
+
+
+def test_energy_conserved_in_lossless_pec_cavity():
+    """Half-step energy (eps E^n.E^n + mu0 H^(n-1/2).H^(n+1/2))/2 is an exact invariant of
+    the Yee scheme in a closed lossless cavity (Taflove & Hagness 2005): after the sources
+    end it stays constant, up to round-off and the work of the pulse tail (its envelope
+    is 1e-8 of the peak at t_end; measured drift 2e-9)."""
+    sim = _cavity()
+    sim.run(int(PULSE.t_end / sim.dt) + 2000, progress=False)
+    rec = sim.records()
+    after = rec["energy"][rec["energy_time"] > PULSE.t_end]
+    assert after.max() > 0
+    assert (after.max() - after.min()) / after.max() < 1e-7
+    # float32 fields: bounded drift
+    s32 = _cavity(np.float32)
+    s32.run(int(PULSE.t_end / s32.dt) + 2000, progress=False)
+    r32 = s32.records()
+    e32 = r32["energy"][r32["energy_time"] > PULSE.t_end]
+    assert (e32.max() - e32.min()) / e32.max() < 1e-4
+
+
+def test_float32_agrees_with_float64():
+    a, b = _cavity(np.float64), _cavity(np.float32)
+    a.run(800, progress=False)
+    b.run(800, progress=False)
+    for key in ("ez", "hy", "emf"):
+        x, y = a.records()[key], b.records()[key]
+        assert np.abs(x - y).max() < 1e-4 * np.abs(x).max(), key
+
+
+def test_lossy_medium_dissipates():
+    sim = _cavity(eps_r=2.0, sigma=0.5)
+    sim.run(int(PULSE.t_end / sim.dt) + 600, progress=False)
+    e = sim.records()["energy"]
+    assert e[-1] < 1e-3 * e.max()
+
+
+def test_guard_stops_non_finite_fields():
+    sim = _cavity()
+    sim.run(10, progress=False)
+    sim.fields["Ey"][5, 5, 5] = np.nan
+    with pytest.raises(RingprintError, match="non-finite.*Courant factor"):
+        sim.run(10, progress=False)
+
+
+def test_guard_stops_growing_energy():
+    sim = _cavity()
+    sim.run(int(PULSE.t_end / sim.dt) + 10, progress=False)
+    sim._ca[1] = 1.01  # an unphysical gain: the energy must not be allowed to grow
+    with pytest.raises(RingprintError, match="energy grew"):
+        sim.run(500, progress=False)
+
+
+def test_energy_sampling_interval():
+    sim = _cavity(energy_every=7)
+    sim.run(50, progress=False)
+    rec = sim.records()
+    assert np.array_equal(rec["energy_time"], np.arange(0, 50, 7) * sim.dt)
+    assert np.all(np.isfinite(rec["energy"]))
+    with pytest.raises(RingprintError, match="energy_every"):
+        _open(energy_every=0)
