@@ -114,3 +114,36 @@ def test_lossy_dielectric_cavity_q(q_target):
         assert abs(p.frequency_hz - f_disc) / f_disc < 2e-3, (mnl, p)
         q_pozar = 2 * np.pi * p.frequency_hz * eps_r * 8.8541878128e-12 / sigma
         assert abs(p.q - q_pozar) / q_pozar <= 0.01, (mnl, p.q, q_pozar)
+
+
+def test_pmc_wall_is_an_exact_mirror():
+    """A PMC wall at x = 0 with PEC elsewhere: by image theory (Harrington 1961, sec. 3-6)
+    the box is half of a PEC box of length 2a, keeping the modes with tangential E even
+    about the wall, so k_x = (m + 1/2) pi / a. Their Yee-grid frequencies follow the same
+    dispersion relation (Taflove & Hagness 2005) to 1e-5, because the wall update is the
+    exact discrete mirror."""
+    grid = Grid.uniform(CELLS, D)
+    walls = {"x-": "pmc", "x+": "pec", "y-": "pec", "y+": "pec", "z-": "pec", "z+": "pec"}
+    sim = Simulation(grid, Media(grid), boundaries=walls, dtype=np.float64)
+    pulse = GaussianPulse(8e9, 30e9)
+    for comp, pos in (("Ey", (2.0e-3, 2.5e-3, 5.0e-3)), ("Ez", (5.0e-3, 7.0e-3, 2.5e-3))):
+        sim.add_source(DipoleSource(pos, comp, pulse))
+    for comp, pos in (("Ey", (0.0, 6.5e-3, 6.0e-3)), ("Ez", (9.0e-3, 3.0e-3, 4.5e-3))):
+        sim.add_pickup(FieldPickup(comp, pos), comp)
+    sim.run(int(np.ceil(pulse.t_end / sim.dt)) + 4000, progress=False)
+    rec = sim.records()
+    after = rec["time"] > pulse.t_end
+    poles = ringdown_poles(rec["Ey"][after] + rec["Ez"][after], sim.dt, 10e9, 26e9)
+    found = np.array([p.frequency_hz for p in poles])
+    a, b, d = SIDES
+    checked = 0
+    for m, n, l in itertools.product(range(3), range(3), range(3)):
+        if n == 0 and l == 0:
+            continue  # no field: E tangential to y and z walls needs n or l > 0
+        k = np.array([(m + 0.5) * np.pi / a, n * np.pi / b, l * np.pi / d])
+        f_disc = _discrete(k, sim.dt, 1.0)
+        if 12e9 <= f_disc <= 25e9:
+            f = found[np.argmin(np.abs(found - f_disc))]
+            assert abs(f - f_disc) / f_disc <= 1e-5, ((m, n, l), f, f_disc)
+            checked += 1
+    assert checked >= 4
