@@ -2,10 +2,16 @@
 
 Layout: every field array is C-contiguous; loops run ``prange`` over the first
 index and innermost over the last. The main sweeps touch only edges/faces whose
-neighbours all exist; boundary planes (PMC walls) and CPML slabs have their own
-small loops, so the main sweep has no per-cell branch.
+neighbours all exist and have no per-cell branch: after a row ``[i, j, :]`` is
+updated, the CPML correction of that row runs as its own short loop over the
+layer part of the row (z layers), or over the whole row when the row lies in an
+x or y layer (a per-row test). The psi arrays exist only inside the layers.
+E rows on PMC walls are updated by :func:`update_e_box` and :func:`cpml_rows`.
+Rows whose media index is the same along k use hoisted coefficients (no table
+gathers); mixed rows read ``ca[m], cb[m]`` per cell.
 
-The main sweeps also return the energy sums of the half-step energy form
+When ``en`` is true the main sweeps also return the energy sums of the half-step
+energy form
 (Taflove & Hagness 2005): the E sweep sums ``eps E^n . E^n w`` over the old values,
 the H sweep ``mu0 H^(n-1/2) . H^(n+1/2) w``, with per-axis weights ``w`` that are
 zero outside the region the energy is reported for.
