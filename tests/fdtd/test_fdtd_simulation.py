@@ -156,3 +156,11 @@ def test_energy_sampling_interval():
     assert np.all(np.isfinite(rec["energy"]))
     with pytest.raises(RingprintError, match="energy_every"):
         _open(energy_every=0)
+
+
+def test_progress_bar_can_be_forced(capsys):
+    sim = _cavity()
+    sim.run(40, progress=True)
+    assert "step" in capsys.readouterr().err
+    sim.run(5, progress=False)
+    assert capsys.readouterr().err == ""
