@@ -1,5 +1,7 @@
 """Reading parts: triangle meshes through meshio, CAD B-rep through gmsh."""
 
+import contextlib
+import io
 import os
 import re
 import warnings
@@ -12,7 +14,7 @@ from ringprint.meshing.surface import Surface
 #: Extensions read through meshio (triangle/quad surfaces, or tetrahedra whose outer
 #: faces are taken).
 MESH_EXTENSIONS = (".stl", ".obj", ".ply", ".off", ".vtk", ".vtu", ".msh")
-#: Extensions tessellated through gmsh's OpenCASCADE kernel (coordinates in metres).
+#: Extensions tessellated through gmsh's OpenCASCADE kernel (the file's unit honoured).
 CAD_EXTENSIONS = (".step", ".stp", ".iges", ".igs")
 
 
@@ -35,7 +37,8 @@ def read_surfaces(path, cell_size=None):
         One per body, named from the file where the format carries names (ASCII STL
         ``solid`` names, Gmsh physical groups, STEP/IGES labels), else from the file
         stem. Mesh-file coordinates are in the file's own unit (``file_unit`` None:
-        the caller says which); CAD coordinates are in metres (``file_unit`` "m").
+        the caller says which); CAD coordinates are in millimetres converted from the
+        file's own unit (``file_unit`` "mm"); :func:`transform_surface` makes metres.
 
     Raises
     ------
@@ -64,13 +67,19 @@ def _meshio_read(path, file_format=None, label=None):
     import meshio
 
     label = label or path
+    chatter = io.StringIO()
     try:
-        with warnings.catch_warnings():
+        # meshio prints its complaints and may even call sys.exit on a failed read
+        with warnings.catch_warnings(), contextlib.redirect_stdout(chatter), contextlib.redirect_stderr(chatter):
             warnings.simplefilter("ignore")
             return meshio.read(path, file_format=file_format)
-    except Exception as exc:  # meshio raises many types for bad bytes
+    except (Exception, SystemExit) as exc:  # meshio raises many types for bad bytes
         kind = os.path.splitext(path)[1].lstrip(".").upper()
-        detail = " ".join(str(exc).split())[:120]
+        said = " ".join(chatter.getvalue().split())
+        detail = (" ".join(str(exc).split()) if not isinstance(exc, SystemExit) else said)[:120]
+        if "POLYDATA" in said:
+            raise RingprintError(f"{label}: legacy VTK POLYDATA files are not supported; save the "
+                                 "surface as .vtu, .ply or .stl") from None
         raise RingprintError(f"{label}: cannot be read as a {kind} mesh ({type(exc).__name__}: "
                              f"{detail}); check the file is complete and re-export it") from None
 

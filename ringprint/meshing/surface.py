@@ -30,8 +30,9 @@ class Surface:
     notes : tuple of str
         What the checks found and repaired, one line each.
     file_unit : str or None
-        Unit the file itself fixes for its coordinates (CAD files: ``"m"``, gmsh
-        converts them); None for mesh files, whose unit the caller must give.
+        Unit the file itself fixes for its coordinates (CAD files: ``"mm"``, the CAD
+        kernel converts them); None for mesh files, whose unit the caller must give;
+        ``"m"`` after :func:`transform_surface`.
     """
 
     name: str

@@ -67,7 +67,7 @@ def transform_surface(surface, unit="m", scale=1.0, mirror=None, rotate=None, tr
     unit : str
         Unit of the file's numbers (see :data:`UNITS`); the result is in metres.
         Ignored (after validation) when the file fixes its own unit
-        (``surface.file_unit``, e.g. STEP/IGES read in metres).
+        (``surface.file_unit``, e.g. STEP/IGES read in millimetres).
     scale : float or sequence of 3 floats
         Scale factor(s) about the origin, applied after the unit.
     mirror : str or None
