@@ -15,10 +15,15 @@ Rules (documented here because the report relies on them):
   case's loss frequency ``omega0``, so a lossy edge keeps its loss tangent there.
 - **Conductors** (all treated as perfect today) make an edge PEC when the edge itself
   (the middle sub-ray) lies at least half inside the part, the unbiased staircase.
-  For sheets, and for conductor solids thinner than ``THIN_CELLS`` cells, the edges
-  the surface cuts are PEC too (rule in :func:`ringprint.meshing.surface_cuts`), so a
-  shield can or foil thinner than a cell stays conducting. In the dielectric
-  average, the volume a conductor claims counts as air.
+  Sheets, and conductor solids thinner than ``THIN_CELLS`` cells, are staircased
+  through the grid *nodes*: a node lies on the surface when the surface crosses one
+  of the three one-cell segments centred on it along x, y and z (the half-open rule
+  of :func:`ringprint.meshing.surface_cuts`, applied on the dual grid), and an edge is
+  PEC when both its end nodes do. This keeps a thin strip a connected wire without
+  dangling one-cell stubs at its sides (such stubs load the strip like a comb and
+  pull its half-wave resonance down by a third), and a shield can or foil thinner
+  than a cell stays closed. In the dielectric average, the volume a conductor claims
+  counts as air.
 - **Overlaps** follow :func:`ringprint.meshing.resolve_overlaps`: a higher
   ``priority`` wins, else the later part in the case file.
 """
@@ -182,6 +187,31 @@ def _shapes(grid: meshing.Grid) -> dict:
     return {"x": (nx - 1, ny, nz), "y": (nx, ny - 1, nz), "z": (nx, ny, nz - 1)}
 
 
+def sheet_nodes(surface, grid: meshing.Grid) -> np.ndarray:
+    """Boolean mask over the grid nodes (Nx, Ny, Nz): the nodes the surface passes through.
+
+    A node is on the surface when the surface crosses one of the three one-cell
+    segments centred on it along x, y, z. ``surface_cuts`` on the grid whose x (then y)
+    nodes are the dual nodes has its Ex (Ey) edge midpoints exactly on our nodes and
+    tests the segments along y, z (z, x) through them.
+    """
+    x, y, z = grid.axes
+    on = np.zeros(grid.shape, bool)
+    for comp, axes in (("x", (meshing.dual_nodes(x), y, z)), ("y", (x, meshing.dual_nodes(y), z))):
+        box = meshing.surface_cuts(surface, *axes)[comp]
+        on[box.slices] |= box.data
+    return on
+
+
+def _edges_between(nodes: np.ndarray, comp: str) -> np.ndarray:
+    """Edges of component ``comp`` whose two end nodes are both set."""
+    a = COMPONENTS.index(comp)
+    lo = [slice(None)] * 3
+    hi = [slice(None)] * 3
+    lo[a], hi[a] = slice(None, -1), slice(1, None)
+    return nodes[tuple(lo)] & nodes[tuple(hi)]
+
+
 def assemble(case: Case, grid: meshing.Grid, parts: list[PartModel]):
     """Per-edge ``(eps_r, sigma, pec)``, each a tuple of three arrays (x, y, z).
 
@@ -196,6 +226,8 @@ def assemble(case: Case, grid: meshing.Grid, parts: list[PartModel]):
             media.append(case.medium(p.part))
     fills = meshing.resolve_overlaps(fills, shapes, priority=prio)
     omega0 = 2 * math.pi * case.spectrum.loss_at_hz
+    sheets = [sheet_nodes(s, grid) for p in parts if p.is_conductor for s, f in zip(p.surfaces, p.fills)
+              if f.cuts is not None]
     eps_out, sig_out, pec_out = [], [], []
     for comp in COMPONENTS:
         shape = shapes[comp]
@@ -208,9 +240,8 @@ def assemble(case: Case, grid: meshing.Grid, parts: list[PartModel]):
             if f.fractions is not None:
                 box = f.centre(comp)
                 pec[box.slices] |= box.data >= 0.5
-            if f.cuts is not None:
-                box = f.cuts[comp]
-                pec[box.slices] |= box.data
+        for nodes in sheets:
+            pec |= _edges_between(nodes, comp)
         eps = np.ones(shape, np.complex128)
         if dielectric:
             lo = np.min([f.fractions[comp].offset for f, _ in dielectric], axis=0)

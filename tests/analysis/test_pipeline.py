@@ -1,0 +1,150 @@
+"""``ringprint run`` end to end on a small case: outputs, contract keys, resume, bad input.
+
+The physics reference here is the half-wave resonance of a thin straight conductor:
+the first resonance of a strip of length L lies a little below c / (2 L) (common
+practice; the shortening grows with thickness). tests/validation holds the checks
+against closed forms.
+"""
+
+import json
+
+import meshio
+import numpy as np
+import pytest
+
+from ringprint.analysis import cli
+from ringprint.analysis.pipeline import run_case
+from ringprint.analysis.ringdown import RunHalted
+from ringprint.errors import RingprintError
+
+C0 = 299_792_458.0
+LENGTH_MM = 60.0
+
+
+def _write_strip(path, length=LENGTH_MM, width=4.0):
+    """A flat rectangular sheet (two triangles, zero thickness) along x, in mm."""
+    h, w = length / 2, width / 2
+    pts = np.array([[-h, -w, 0], [h, -w, 0], [h, w, 0], [-h, w, 0]], float)
+    meshio.write(path, meshio.Mesh(pts, [("triangle", np.array([[0, 1, 2], [0, 2, 3]]))]), binary=True)
+
+
+def _case(tmp_path, extra=""):
+    _write_strip(tmp_path / "strip.stl")
+    text = f"""
+title = "Test strip"
+units = "mm"
+[spectrum]
+f_min = "1.5 GHz"
+f_max = "3.5 GHz"
+[[part]]
+name = "strip"
+file = "strip.stl"
+material = "pec"
+[grid]
+cells_per_wavelength = 24
+[analysis]
+q_max = 40
+[[band]]
+name = "test band"
+low = "2.2 GHz"
+high = "2.5 GHz"
+{extra}
+"""
+    case = tmp_path / "strip.toml"
+    case.write_text(text)
+    return case
+
+
+@pytest.fixture(scope="module")
+def strip_run(tmp_path_factory):
+    tmp = tmp_path_factory.mktemp("strip")
+    case = _case(tmp)
+    out = tmp / "out"
+    summary = run_case(case, out, progress=False, echo=None)
+    return case, out, summary
+
+
+def test_outputs_exist_and_follow_the_contract(strip_run):
+    _case_path, out, summary = strip_run
+    for name in ("modes.json", "modes.csv", "report.html", "spectrum.png", "case.resolved.toml", "run.log"):
+        assert (out / name).is_file(), name
+    assert not list(out.glob("*.tmp*")) and not (out / "checkpoint.h5").exists()
+    data = json.loads((out / "modes.json").read_text())
+    assert {"case", "grid", "modes"} <= set(data)
+    assert data["modes"], "the strip has a half-wave resonance in the window"
+    for k, mode in enumerate(data["modes"], start=1):
+        assert mode["index"] == k
+        assert {"frequency_hz", "q", "decay_rate_per_s", "amplitude", "error", "q_chu",
+                "bands", "participation"} <= set(mode)
+        # Q = omega / (2 decay rate), the definition the report states
+        assert mode["q"] == pytest.approx(np.pi * mode["frequency_hz"] / mode["decay_rate_per_s"], rel=1e-9)
+    assert summary["modes"] == data["modes"]
+
+
+def test_half_wave_resonance_and_chu_bound(strip_run):
+    """First resonance a little below c/(2L) (common practice: a few percent short for a
+    strip of width L/15), and its Q above the Chu bound for the enclosing sphere (Chu 1948)."""
+    _case_path, _out, summary = strip_run
+    half_wave = C0 / (2 * LENGTH_MM * 1e-3)
+    first = min(summary["modes"], key=lambda m: abs(m["frequency_hz"] - half_wave))
+    assert 0.85 * half_wave < first["frequency_hz"] < 1.0 * half_wave
+    for m in summary["modes"]:
+        assert m["q"] >= m["q_chu"], m
+
+
+def test_band_judgement_in_summary(strip_run):
+    _case_path, _out, summary = strip_run
+    first = summary["modes"][0]
+    entry = first["bands"][0]
+    assert entry["band"] == "test band" and entry["status"] in ("inside", "near", "clear")
+    inside = 2.2e9 <= first["frequency_hz"] <= 2.5e9
+    assert (entry["status"] == "inside") == inside
+
+
+def test_resume_gives_the_same_modes(strip_run, tmp_path):
+    """A run killed part way and resumed reproduces the uninterrupted run (to 1e-6)."""
+    case, _out, full = strip_run
+    out = tmp_path / "resumed"
+    with pytest.raises(RunHalted):
+        run_case(case, out, progress=False, echo=None, halt_after_steps=600)
+    assert (out / "checkpoint.h5").is_file() and not (out / "modes.json").exists()
+    resumed = run_case(case, out, resume=True, progress=False, echo=None)
+    assert len(resumed["modes"]) == len(full["modes"])
+    for a, b in zip(resumed["modes"], full["modes"]):
+        assert a["frequency_hz"] == pytest.approx(b["frequency_hz"], rel=1e-6)
+        assert a["q"] == pytest.approx(b["q"], rel=1e-6)
+
+
+def test_resume_refuses_a_directory_without_checkpoint(tmp_path, capsys):
+    case = _case(tmp_path)
+    code = cli.main(["run", str(case), "--out", str(tmp_path / "empty"), "--resume", "--quiet"])
+    err = capsys.readouterr().err
+    assert code == 1 and "no checkpoint" in err and "Traceback" not in err
+
+
+def test_resume_refuses_another_cases_checkpoint(strip_run, tmp_path):
+    case, _out, _summary = strip_run
+    out = tmp_path / "other"
+    with pytest.raises(RunHalted):
+        run_case(case, out, progress=False, echo=None, halt_after_steps=300)
+    changed = _case(tmp_path, extra="")
+    changed.write_text(changed.read_text().replace("q_max = 40", "q_max = 50"))
+    with pytest.raises(RingprintError, match="another case"):
+        run_case(changed, out, resume=True, progress=False, echo=None)
+
+
+def test_probe_inside_a_conductor_is_refused(tmp_path, capsys):
+    case = _case(tmp_path, extra='[probe]\nat = [0.0, 0.0, 0.0]\nnormal = "z"\nsize = 2.0\n')
+    code = cli.main(["run", str(case), "--out", str(tmp_path / "o"), "--quiet"])
+    err = capsys.readouterr().err.strip().splitlines()
+    assert code == 1 and len(err) == 1 and "touches a conductor" in err[0]
+    assert not (tmp_path / "o" / "modes.json").exists()
+
+
+def test_output_directory_that_is_a_file(tmp_path, capsys):
+    case = _case(tmp_path)
+    target = tmp_path / "taken"
+    target.write_text("keep me")
+    code = cli.main(["run", str(case), "--out", str(target), "--quiet"])
+    assert code == 1 and "ringprint: error:" in capsys.readouterr().err
+    assert target.read_text() == "keep me"
