@@ -1,7 +1,6 @@
 """Grid planning, thin-part warning, memory estimate and refusal."""
 
 import math
-import warnings
 
 import numpy as np
 import pytest
