@@ -115,3 +115,25 @@ def test_bad_grid_and_unchecked_and_outside():
         voxelize(box((0, 0, 0), (0.5, 0.5, 0.5)), X, X, X)
     with pytest.raises(RingprintError, match="outside the grid"):
         voxelize(prepare_surface(box((5, 5, 5), (6, 6, 6))), X, X, X)
+
+
+def test_shield_can_thinner_than_a_cell():
+    """A closed can with 0.1 mm walls on a 1 mm grid: fractions stay <= 0.1 (no edge
+    is mostly metal) but the cut mask keeps every wall conducting, and thickness()
+    reads the wall (cavity oriented inward by the nesting rule)."""
+    from ringprint.meshing import thickness
+
+    o = box((0, 0, 0), (0.02, 0.015, 0.003))
+    i = box((1e-4, 1e-4, 1e-4), (0.02 - 1e-4, 0.015 - 1e-4, 0.003 - 1e-4))
+    can = prepare_surface(Surface("can", np.r_[o.vertices, i.vertices], np.r_[o.faces, i.faces + 8]), conductor=True)
+    assert can.volume == pytest.approx(o.volume - i.volume)
+    assert thickness(can, 5e-4) == pytest.approx(1e-4, rel=1e-6)
+    g = np.arange(-0.002, 0.0221, 0.001) + 1.3e-4
+    fill = voxelize(can, g, g, g, subrays=1, cuts=True)
+    for c in "xyz":
+        assert fill.centre(c).data.max() <= 0.1 + 1e-6
+    # the lid and floor (normal to z) cut Ex/Ey edges on two z planes; the side walls
+    # cut Ez edges: every component has marks
+    assert all(fill.cuts[c].data.any() for c in "xyz")
+    zplanes = {int(k) + fill.cuts["x"].offset[2] for k in np.argwhere(fill.cuts["x"].data)[:, 2]}
+    assert {int(np.argmin(np.abs(g - 0.0))), int(np.argmin(np.abs(g - 0.003)))} <= zplanes
