@@ -61,7 +61,9 @@ def _case_summary(case, model) -> dict:
                       "triangles": int(sum(s.n_triangles for s in p.surfaces)),
                       "volume_m3": float(sum(s.volume for s in p.surfaces)),
                       "thinner_than_a_cell": bool(p.thin)})
-    return {"name": case.source.stem, "title": case.title, "file": str(case.source),
+    stem = case.source.stem
+    name = f"{case.source.parent.name}/{stem}" if stem == "case" else stem  # "tag/case", not "case"
+    return {"name": name, "title": case.title, "file": str(case.source),
             "digest": case.digest(), "parts": parts,
             "spectrum": {"f_min_hz": case.spectrum.f_min_hz, "f_max_hz": case.spectrum.f_max_hz}}
 
