@@ -1,20 +1,22 @@
 """numba kernels of the Yee update (private; wrapped by :mod:`ringprint.fdtd.simulation`).
 
 Layout: every field array is C-contiguous; loops run ``prange`` over the first
-index and innermost over the last. The main sweeps touch only edges/faces whose
-neighbours all exist and have no per-cell branch: after a row ``[i, j, :]`` is
-updated, the CPML correction of that row runs as its own short loop over the
-layer part of the row (z layers), or over the whole row when the row lies in an
-x or y layer (a per-row test). The psi arrays exist only inside the layers.
-E rows on PMC walls are updated by :func:`update_e_box` and :func:`cpml_rows`.
-Rows whose media index is the same along k use hoisted coefficients (no table
-gathers); mixed rows read ``ca[m], cb[m]`` per cell.
+index and hand each ``[i, j, :]`` row to a small row function (inlined at the
+numba level: a separate call per row from a parallel loop is not inlined by LLVM
+and costs as much as a short row) whose loop over k has no branch, so LLVM
+vectorizes it (SIMD over k).
+A row whose media index is the same along k (``ux, uy, uz >= 0``) uses scalar
+coefficients; a mixed row reads ``ca[m], cb[m]`` per cell. After a row is
+updated, its CPML correction runs as its own short row loop over the layer part
+of the row (z layers), or over the whole row when the row lies in an x or y
+layer. The psi arrays exist only inside the layers. E rows on PMC walls are
+updated by :func:`update_e_box` and :func:`cpml_rows`.
 
-When ``en`` is true the main sweeps also return the energy sums of the half-step
-energy form
-(Taflove & Hagness 2005): the E sweep sums ``eps E^n . E^n w`` over the old values,
-the H sweep ``mu0 H^(n-1/2) . H^(n+1/2) w``, with per-axis weights ``w`` that are
-zero outside the region the energy is reported for.
+When ``en`` is true the sweeps also return the energy sums of the half-step
+energy form (Taflove & Hagness 2005): the E sweep sums ``eps E^n . E^n w`` over
+the old values, the H sweep ``mu0 H^(n-1/2) . H^(n+1/2) w``, with per-axis
+weights ``w`` that are zero outside the region the energy is reported for. The
+sums run in float64.
 """
 
 from __future__ import annotations
@@ -26,39 +28,144 @@ from numba import njit, prange
 _FM = {"contract", "reassoc"}  # no nnan/ninf: non-finite values must survive to the guard
 
 
-# Row helpers of the CPML recursive convolution (Roden & Gedney 2000): for one row
-# f[i, j, k0:k1], psi = b psi + a (g[p+o] - g[p+o-1]) along the layer axis p (``a``
-# already holds the inverse spacing; o = 0 for E terms, 1 for H terms), then
-# f += sign * c * psi with c = coef[m[i, j, k]] (E: the cb table) or coef[0] (H).
-# psi is indexed like f with the layer axis shifted by its first index p0.
+# ------------------------------------------------------------------ row updates
+# Each helper updates the row [i, j, k0:k1] of a 3-d array (3-d indexing, no views:
+# making a view per row costs more than a short row's arithmetic). With the
+# neighbour offsets (di, dj) along i or j:
+# H rows: h -= c ((p[i+di, j+dj] - p[i, j]) sp - (q[k+1] - q[k]) sq[k])        (_h_row_k)
+#         h -= c ((p[i+1, j] - p[i, j]) sp - (r[i, j+1] - r[i, j]) sr)          (_h_row_t)
+# E rows: f = ca f + cb ((p[i, j] - p[i-di, j-dj]) sp - (q[k] - q[k-1]) sq[k])  (_e_row_k)
+#         f = ca f + cb ((p[i, j] - p[i-1, j]) sp - (r[i, j] - r[i, j-1]) sr)   (_e_row_t)
+# with (ca, cb) = (ca[u], sg cb[u]) on a uniform row (u >= 0), else per cell.
+# The energy versions return sum old new w[k] (H) / sum eps old^2 w[k] (E).
 
-@njit(cache=True, fastmath=_FM)
-def _xrow(f, g, m, coef, use_table, psi, b, a, p0, o, sign, i, j, k0, k1):
-    bi, ai = b[i], a[i]
-    for k in range(k0, k1):
-        q = bi * psi[i - p0, j, k] + ai * (g[i + o, j, k] - g[i + o - 1, j, k])
-        psi[i - p0, j, k] = q
-        c = coef[m[i, j, k]] if use_table else coef[0]
-        f[i, j, k] += sign * c * q
+@njit(cache=True, fastmath=_FM, inline="always")
+def _h_row_k(h, p, q, i, j, di, dj, sp, sq, c, w, en):
+    s = 0.0
+    i1, j1 = i + di, j + dj
+    if en:
+        for k in range(h.shape[2]):
+            old = h[i, j, k]
+            new = old - c * ((p[i1, j1, k] - p[i, j, k]) * sp - (q[i, j, k + 1] - q[i, j, k]) * sq[k])
+            h[i, j, k] = new
+            s += np.float64(old) * new * w[k]
+    else:
+        for k in range(h.shape[2]):
+            h[i, j, k] = h[i, j, k] - c * ((p[i1, j1, k] - p[i, j, k]) * sp
+                                           - (q[i, j, k + 1] - q[i, j, k]) * sq[k])
+    return s
 
 
-@njit(cache=True, fastmath=_FM)
-def _yrow(f, g, m, coef, use_table, psi, b, a, p0, o, sign, i, j, k0, k1):
-    bj, aj = b[j], a[j]
-    for k in range(k0, k1):
-        q = bj * psi[i, j - p0, k] + aj * (g[i, j + o, k] - g[i, j + o - 1, k])
-        psi[i, j - p0, k] = q
-        c = coef[m[i, j, k]] if use_table else coef[0]
-        f[i, j, k] += sign * c * q
+@njit(cache=True, fastmath=_FM, inline="always")
+def _h_row_t(h, p, r, i, j, sp, sr, c, w, en):
+    s = 0.0
+    if en:
+        for k in range(h.shape[2]):
+            old = h[i, j, k]
+            new = old - c * ((p[i + 1, j, k] - p[i, j, k]) * sp - (r[i, j + 1, k] - r[i, j, k]) * sr)
+            h[i, j, k] = new
+            s += np.float64(old) * new * w[k]
+    else:
+        for k in range(h.shape[2]):
+            h[i, j, k] = h[i, j, k] - c * ((p[i + 1, j, k] - p[i, j, k]) * sp
+                                           - (r[i, j + 1, k] - r[i, j, k]) * sr)
+    return s
 
 
-@njit(cache=True, fastmath=_FM)
-def _zrow(f, g, m, coef, use_table, psi, b, a, p0, o, sign, i, j, k0, k1):
-    for k in range(k0, k1):
-        q = b[k] * psi[i, j, k - p0] + a[k] * (g[i, j, k + o] - g[i, j, k + o - 1])
-        psi[i, j, k - p0] = q
-        c = coef[m[i, j, k]] if use_table else coef[0]
-        f[i, j, k] += sign * c * q
+@njit(cache=True, fastmath=_FM, inline="always")
+def _e_row_k(f, p, q, i, j, di, dj, sp, sq, sg, k0, k1, u, m, ca, cb, ept, w, en):
+    s = 0.0
+    i0, j0 = i - di, j - dj
+    if u >= 0:  # uniform row: coefficients hoisted, no table gathers
+        a, b = ca[u], sg * cb[u]
+        if en:
+            for k in range(k0, k1):
+                old = f[i, j, k]
+                f[i, j, k] = a * old + b * ((p[i, j, k] - p[i0, j0, k]) * sp
+                                            - (q[i, j, k] - q[i, j, k - 1]) * sq[k])
+                s += np.float64(old) * old * w[k]
+            s *= ept[u]
+        else:
+            for k in range(k0, k1):
+                f[i, j, k] = a * f[i, j, k] + b * ((p[i, j, k] - p[i0, j0, k]) * sp
+                                                   - (q[i, j, k] - q[i, j, k - 1]) * sq[k])
+    else:
+        for k in range(k0, k1):
+            mk = m[i, j, k]
+            old = f[i, j, k]
+            f[i, j, k] = ca[mk] * old + sg * cb[mk] * ((p[i, j, k] - p[i0, j0, k]) * sp
+                                                       - (q[i, j, k] - q[i, j, k - 1]) * sq[k])
+            if en:
+                s += ept[mk] * np.float64(old) * old * w[k]
+    return s
+
+
+@njit(cache=True, fastmath=_FM, inline="always")
+def _e_row_t(f, p, r, i, j, sp, sr, k0, k1, u, m, ca, cb, ept, w, en):
+    s = 0.0
+    if u >= 0:
+        a, b = ca[u], cb[u]
+        if en:
+            for k in range(k0, k1):
+                old = f[i, j, k]
+                f[i, j, k] = a * old + b * ((p[i, j, k] - p[i - 1, j, k]) * sp
+                                            - (r[i, j, k] - r[i, j - 1, k]) * sr)
+                s += np.float64(old) * old * w[k]
+            s *= ept[u]
+        else:
+            for k in range(k0, k1):
+                f[i, j, k] = a * f[i, j, k] + b * ((p[i, j, k] - p[i - 1, j, k]) * sp
+                                                   - (r[i, j, k] - r[i, j - 1, k]) * sr)
+    else:
+        for k in range(k0, k1):
+            mk = m[i, j, k]
+            old = f[i, j, k]
+            f[i, j, k] = ca[mk] * old + cb[mk] * ((p[i, j, k] - p[i - 1, j, k]) * sp
+                                                  - (r[i, j, k] - r[i, j - 1, k]) * sr)
+            if en:
+                s += ept[mk] * np.float64(old) * old * w[k]
+    return s
+
+
+# --------------------------------------------------------------- CPML row pieces
+# Recursive convolution (Roden & Gedney 2000) on one row f[i, j, k0:k1]:
+# psi = b psi + a dG, f += sign coef psi, with coef = coef[u] on a uniform row
+# (H: the single entry dt/mu0), else coef[m[i, j, k]] (the E cb table).
+# _psi_k: layer axis z, dG = g[k+o] - g[k+o-1], b, a per k, psi row shifted by p0.
+# _psi_t: layer axis x or y, dG = g[i+di, j+dj] - g[i+di-ei, j+dj-ej] ((ei, ej)
+# the unit step along the layer axis, (di, dj) = o (ei, ej)), b, a scalars, psi
+# row [pi, pj].
+
+@njit(cache=True, fastmath=_FM, inline="always")
+def _psi_k(f, g, psi, i, j, b, a, p0, o, sign, k0, k1, u, m, coef):
+    if u >= 0:
+        c = sign * coef[u]
+        for k in range(k0, k1):
+            q = b[k] * psi[i, j, k - p0] + a[k] * (g[i, j, k + o] - g[i, j, k + o - 1])
+            psi[i, j, k - p0] = q
+            f[i, j, k] += c * q
+    else:
+        for k in range(k0, k1):
+            q = b[k] * psi[i, j, k - p0] + a[k] * (g[i, j, k + o] - g[i, j, k + o - 1])
+            psi[i, j, k - p0] = q
+            f[i, j, k] += sign * coef[m[i, j, k]] * q
+
+
+@njit(cache=True, fastmath=_FM, inline="always")
+def _psi_t(f, g, psi, i, j, ei, ej, o, pi, pj, b, a, sign, k0, k1, u, m, coef):
+    i1, j1 = i + o * ei, j + o * ej
+    i0, j0 = i1 - ei, j1 - ej
+    if u >= 0:
+        c = sign * coef[u]
+        for k in range(k0, k1):
+            q = b * psi[pi, pj, k] + a * (g[i1, j1, k] - g[i0, j0, k])
+            psi[pi, pj, k] = q
+            f[i, j, k] += c * q
+    else:
+        for k in range(k0, k1):
+            q = b * psi[pi, pj, k] + a * (g[i1, j1, k] - g[i0, j0, k])
+            psi[pi, pj, k] = q
+            f[i, j, k] += sign * coef[m[i, j, k]] * q
 
 
 @njit(cache=True)
@@ -72,190 +179,107 @@ def _layer(r, p):
     return -1
 
 
+@njit(cache=True, fastmath=_FM, inline="always")
+def _z_layers(f, g, psi_lo, psi_hi, b, a, rz, o, sign, i, j, u, m, coef):
+    """Both z-layer pieces of row ``f[i, j]`` (nothing when z has no layer)."""
+    if rz[1] > rz[0]:
+        _psi_k(f, g, psi_lo, i, j, b, a, rz[0], o, sign, rz[0], rz[1], u, m, coef)
+    if rz[3] > rz[2]:
+        _psi_k(f, g, psi_hi, i, j, b, a, rz[2], o, sign, rz[2], rz[3], u, m, coef)
+
+
+# ------------------------------------------------------------------------ sweeps
 @njit(parallel=True, cache=True, fastmath=_FM)
 def update_h(ex, ey, ez, hx, hy, hz, ch, ixh, iyh, izh, mu0,
-             wxn, wyn, wzn, wxc, wyc, wzc, mdum, chtab, b, a, r, psi, en):
+             wxn, wyn, wzn, wxc, wyc, wzc, mdum, chtab, b, a, r, psi, sg, en):
     """H^(n+1/2) from E^n over all faces, CPML rows included.
 
     ``b, a``: per-axis CPML coefficients at the cell centres; ``r[axis]`` the cell
     ranges ``(lo0, lo1, hi0, hi1)`` of the two layers; ``psi`` the 12 auxiliary
     arrays ``(Hx y lo, y hi, z lo, z hi, Hy x lo, x hi, z lo, z hi, Hz x lo, x hi,
-    y lo, y hi)``. Returns ``sum mu0 H_old H_new w``.
+    y lo, y hi)``; ``sg = (1, -1)`` in the field dtype. Returns ``sum mu0 H_old H_new w``.
     """
     nx, ny, nz = hx.shape[0], hy.shape[1], hz.shape[2]
     total = 0.0
+    pos, neg = sg[0], sg[1]  # signs in the field dtype (a float64 literal would promote)
     for i in prange(nx):
         acc = 0.0
         lx = _layer(r[0], i)
         for j in range(ny - 1):  # Hx (nx, ny-1, nz-1): -dEz/dy, +dEy/dz
-            s = 0.0
-            for k in range(nz - 1):
-                old = hx[i, j, k]
-                new = old - ch * ((ez[i, j + 1, k] - ez[i, j, k]) * iyh[j]
-                                  - (ey[i, j, k + 1] - ey[i, j, k]) * izh[k])
-                hx[i, j, k] = new
-                if en:
-                    s += np.float64(old) * new * wzc[k]
-            acc += s * wxn[i] * wyc[j]
+            acc += _h_row_k(hx, ez, ey, i, j, 0, 1, iyh[j], izh, ch, wzc, en) * wxn[i] * wyc[j]
             ly = _layer(r[1], j)
             if ly >= 0:
-                _yrow(hx, ez, mdum, chtab, False, psi[ly], b[1], a[1], r[1][2 * ly], 1, -1.0,
-                      i, j, 0, nz - 1)
-            _zrow(hx, ey, mdum, chtab, False, psi[2], b[2], a[2], r[2][0], 1, 1.0, i, j,
-                  r[2][0], r[2][1])
-            _zrow(hx, ey, mdum, chtab, False, psi[3], b[2], a[2], r[2][2], 1, 1.0, i, j,
-                  r[2][2], r[2][3])
+                _psi_t(hx, ez, psi[ly], i, j, 0, 1, 1, i, j - r[1][2 * ly], b[1][j], a[1][j], neg,
+                       0, nz - 1, 0, mdum, chtab)
+            _z_layers(hx, ey, psi[2], psi[3], b[2], a[2], r[2], 1, pos, i, j, 0, mdum, chtab)
         if i < nx - 1:
             for j in range(ny):  # Hy (nx-1, ny, nz-1): -dEx/dz, +dEz/dx
-                s = 0.0
-                for k in range(nz - 1):
-                    old = hy[i, j, k]
-                    new = old - ch * ((ex[i, j, k + 1] - ex[i, j, k]) * izh[k]
-                                      - (ez[i + 1, j, k] - ez[i, j, k]) * ixh[i])
-                    hy[i, j, k] = new
-                    if en:
-                        s += np.float64(old) * new * wzc[k]
-                acc += s * wxc[i] * wyn[j]
+                acc += (_h_row_k(hy, ez, ex, i, j, 1, 0, ixh[i], izh, -ch, wzc, en)
+                        * wxc[i] * wyn[j])
                 if lx >= 0:
-                    _xrow(hy, ez, mdum, chtab, False, psi[4 + lx], b[0], a[0], r[0][2 * lx], 1, 1.0,
-                          i, j, 0, nz - 1)
-                _zrow(hy, ex, mdum, chtab, False, psi[6], b[2], a[2], r[2][0], 1, -1.0, i, j,
-                      r[2][0], r[2][1])
-                _zrow(hy, ex, mdum, chtab, False, psi[7], b[2], a[2], r[2][2], 1, -1.0, i, j,
-                      r[2][2], r[2][3])
+                    _psi_t(hy, ez, psi[4 + lx], i, j, 1, 0, 1, i - r[0][2 * lx], j, b[0][i],
+                           a[0][i], pos, 0, nz - 1, 0, mdum, chtab)
+                _z_layers(hy, ex, psi[6], psi[7], b[2], a[2], r[2], 1, neg, i, j, 0, mdum, chtab)
             for j in range(ny - 1):  # Hz (nx-1, ny-1, nz): -dEy/dx, +dEx/dy
-                s = 0.0
-                for k in range(nz):
-                    old = hz[i, j, k]
-                    new = old - ch * ((ey[i + 1, j, k] - ey[i, j, k]) * ixh[i]
-                                      - (ex[i, j + 1, k] - ex[i, j, k]) * iyh[j])
-                    hz[i, j, k] = new
-                    if en:
-                        s += np.float64(old) * new * wzn[k]
-                acc += s * wxc[i] * wyc[j]
+                acc += _h_row_t(hz, ey, ex, i, j, ixh[i], iyh[j], ch, wzn, en) * wxc[i] * wyc[j]
                 if lx >= 0:
-                    _xrow(hz, ey, mdum, chtab, False, psi[8 + lx], b[0], a[0], r[0][2 * lx], 1, -1.0,
-                          i, j, 0, nz)
+                    _psi_t(hz, ey, psi[8 + lx], i, j, 1, 0, 1, i - r[0][2 * lx], j, b[0][i],
+                           a[0][i], neg, 0, nz, 0, mdum, chtab)
                 ly = _layer(r[1], j)
                 if ly >= 0:
-                    _yrow(hz, ex, mdum, chtab, False, psi[10 + ly], b[1], a[1], r[1][2 * ly], 1, 1.0,
-                          i, j, 0, nz)
+                    _psi_t(hz, ex, psi[10 + ly], i, j, 0, 1, 1, i, j - r[1][2 * ly], b[1][j],
+                           a[1][j], pos, 0, nz, 0, mdum, chtab)
         total += acc
     return mu0 * total
 
 
-@njit(cache=True, fastmath=_FM)
-def _curl_x(hy, hz, i, j, k, iye, ize):
-    return (hz[i, j, k] - hz[i, j - 1, k]) * iye[j] - (hy[i, j, k] - hy[i, j, k - 1]) * ize[k]
-
-
-@njit(cache=True, fastmath=_FM)
-def _curl_y(hx, hz, i, j, k, ixe, ize):
-    return (hx[i, j, k] - hx[i, j, k - 1]) * ize[k] - (hz[i, j, k] - hz[i - 1, j, k]) * ixe[i]
-
-
-@njit(cache=True, fastmath=_FM)
-def _curl_z(hx, hy, i, j, k, ixe, iye):
-    return (hy[i, j, k] - hy[i - 1, j, k]) * ixe[i] - (hx[i, j, k] - hx[i, j - 1, k]) * iye[j]
-
-
 @njit(parallel=True, cache=True, fastmath=_FM)
 def update_e(ex, ey, ez, hx, hy, hz, mx, my, mz, ux, uy, uz, ca, cb, epst, ixe, iye, ize,
-             wxn, wyn, wzn, wxc, wyc, wzc, b, a, r, psi, en):
+             wxn, wyn, wzn, wxc, wyc, wzc, b, a, r, psi, sg, en):
     """E^(n+1) from H^(n+1/2) on interior edges, CPML rows included.
 
     ``b, a``: per-axis CPML coefficients at the nodes; ``r[axis]`` the node ranges
     ``(lo0, lo1, hi0, hi1)`` of the two layers; ``psi`` the 12 auxiliary arrays
     ``(Ex y lo, y hi, z lo, z hi, Ey x lo, x hi, z lo, z hi, Ez x lo, x hi, y lo,
     y hi)``; ``ux, uy, uz`` the media index of each (i, j) row when the whole row has
-    one index, else -1. Returns ``sum eps E_old^2 w``.
+    one index, else -1; ``sg = (1, -1)`` in the field dtype. Returns ``sum eps E_old^2 w``.
     """
     nx, ny, nz = ey.shape[0], ex.shape[1], ex.shape[2]
     total = 0.0
+    pos, neg = sg[0], sg[1]
     for i in prange(nx):
         acc = 0.0
         lx = _layer(r[0], i)
         if i < nx - 1:
             for j in range(1, ny - 1):  # Ex (nx-1, ny, nz): +dHz/dy, -dHy/dz
-                s = 0.0
                 u = ux[i, j]
-                if u >= 0:  # uniform row: coefficients hoisted, no table gathers
-                    cau, cbu = ca[u], cb[u]
-                    for k in range(1, nz - 1):
-                        old = ex[i, j, k]
-                        ex[i, j, k] = cau * old + cbu * _curl_x(hy, hz, i, j, k, iye, ize)
-                        if en:
-                            s += np.float64(old) * old * wzn[k]
-                    s *= epst[u]
-                else:
-                    for k in range(1, nz - 1):
-                        m = mx[i, j, k]
-                        old = ex[i, j, k]
-                        ex[i, j, k] = ca[m] * old + cb[m] * _curl_x(hy, hz, i, j, k, iye, ize)
-                        if en:
-                            s += epst[m] * np.float64(old) * old * wzn[k]
-                acc += s * wxc[i] * wyn[j]
+                acc += (_e_row_k(ex, hz, hy, i, j, 0, 1, iye[j], ize, pos, 1, nz - 1, u, mx, ca,
+                                 cb, epst, wzn, en) * wxc[i] * wyn[j])
                 ly = _layer(r[1], j)
                 if ly >= 0:
-                    _yrow(ex, hz, mx, cb, True, psi[ly], b[1], a[1], r[1][2 * ly], 0, 1.0,
-                          i, j, 1, nz - 1)
-                _zrow(ex, hy, mx, cb, True, psi[2], b[2], a[2], r[2][0], 0, -1.0, i, j,
-                      r[2][0], r[2][1])
-                _zrow(ex, hy, mx, cb, True, psi[3], b[2], a[2], r[2][2], 0, -1.0, i, j,
-                      r[2][2], r[2][3])
+                    _psi_t(ex, hz, psi[ly], i, j, 0, 1, 0, i, j - r[1][2 * ly], b[1][j], a[1][j],
+                           pos, 1, nz - 1, u, mx, cb)
+                _z_layers(ex, hy, psi[2], psi[3], b[2], a[2], r[2], 0, neg, i, j, u, mx, cb)
         if 0 < i < nx - 1:
             for j in range(ny - 1):  # Ey (nx, ny-1, nz): +dHx/dz, -dHz/dx
-                s = 0.0
                 u = uy[i, j]
-                if u >= 0:
-                    cau, cbu = ca[u], cb[u]
-                    for k in range(1, nz - 1):
-                        old = ey[i, j, k]
-                        ey[i, j, k] = cau * old + cbu * _curl_y(hx, hz, i, j, k, ixe, ize)
-                        if en:
-                            s += np.float64(old) * old * wzn[k]
-                    s *= epst[u]
-                else:
-                    for k in range(1, nz - 1):
-                        m = my[i, j, k]
-                        old = ey[i, j, k]
-                        ey[i, j, k] = ca[m] * old + cb[m] * _curl_y(hx, hz, i, j, k, ixe, ize)
-                        if en:
-                            s += epst[m] * np.float64(old) * old * wzn[k]
-                acc += s * wxn[i] * wyc[j]
+                acc += (_e_row_k(ey, hz, hx, i, j, 1, 0, ixe[i], ize, neg, 1, nz - 1, u, my, ca,
+                                 cb, epst, wzn, en) * wxn[i] * wyc[j])
                 if lx >= 0:
-                    _xrow(ey, hz, my, cb, True, psi[4 + lx], b[0], a[0], r[0][2 * lx], 0, -1.0,
-                          i, j, 1, nz - 1)
-                _zrow(ey, hx, my, cb, True, psi[6], b[2], a[2], r[2][0], 0, 1.0, i, j,
-                      r[2][0], r[2][1])
-                _zrow(ey, hx, my, cb, True, psi[7], b[2], a[2], r[2][2], 0, 1.0, i, j,
-                      r[2][2], r[2][3])
+                    _psi_t(ey, hz, psi[4 + lx], i, j, 1, 0, 0, i - r[0][2 * lx], j, b[0][i],
+                           a[0][i], neg, 1, nz - 1, u, my, cb)
+                _z_layers(ey, hx, psi[6], psi[7], b[2], a[2], r[2], 0, pos, i, j, u, my, cb)
             for j in range(1, ny - 1):  # Ez (nx, ny, nz-1): +dHy/dx, -dHx/dy
-                s = 0.0
                 u = uz[i, j]
-                if u >= 0:
-                    cau, cbu = ca[u], cb[u]
-                    for k in range(nz - 1):
-                        old = ez[i, j, k]
-                        ez[i, j, k] = cau * old + cbu * _curl_z(hx, hy, i, j, k, ixe, iye)
-                        if en:
-                            s += np.float64(old) * old * wzc[k]
-                    s *= epst[u]
-                else:
-                    for k in range(nz - 1):
-                        m = mz[i, j, k]
-                        old = ez[i, j, k]
-                        ez[i, j, k] = ca[m] * old + cb[m] * _curl_z(hx, hy, i, j, k, ixe, iye)
-                        if en:
-                            s += epst[m] * np.float64(old) * old * wzc[k]
-                acc += s * wxn[i] * wyn[j]
+                acc += (_e_row_t(ez, hy, hx, i, j, ixe[i], iye[j], 0, nz - 1, u, mz, ca, cb, epst,
+                                 wzc, en) * wxn[i] * wyn[j])
                 if lx >= 0:
-                    _xrow(ez, hy, mz, cb, True, psi[8 + lx], b[0], a[0], r[0][2 * lx], 0, 1.0,
-                          i, j, 0, nz - 1)
+                    _psi_t(ez, hy, psi[8 + lx], i, j, 1, 0, 0, i - r[0][2 * lx], j, b[0][i],
+                           a[0][i], pos, 0, nz - 1, u, mz, cb)
                 ly = _layer(r[1], j)
                 if ly >= 0:
-                    _yrow(ez, hx, mz, cb, True, psi[10 + ly], b[1], a[1], r[1][2 * ly], 0, -1.0,
-                          i, j, 0, nz - 1)
+                    _psi_t(ez, hx, psi[10 + ly], i, j, 0, 1, 0, i, j - r[1][2 * ly], b[1][j],
+                           a[1][j], neg, 0, nz - 1, u, mz, cb)
         total += acc
     return total
 
@@ -303,14 +327,17 @@ def update_e_box(comp, lo, hi, ex, ey, ez, hx, hy, hz, mx, my, mz, ca, cb, epst,
 def cpml_rows(axis, f, g, m, coef, use_table, psi, b, a, p0, o, sign, lo, hi):
     """CPML correction on the rows ``lo..hi`` (exclusive) that the main sweeps do not
     visit (E on PMC walls), sharing the psi array of the fused rows."""
+    u = -1 if use_table else 0
     for i in range(lo[0], hi[0]):
         for j in range(lo[1], hi[1]):
             if axis == 0:
-                _xrow(f, g, m, coef, use_table, psi, b, a, p0, o, sign, i, j, lo[2], hi[2])
+                _psi_t(f, g, psi, i, j, 1, 0, o, i - p0, j, b[i], a[i], sign, lo[2], hi[2], u, m,
+                       coef)
             elif axis == 1:
-                _yrow(f, g, m, coef, use_table, psi, b, a, p0, o, sign, i, j, lo[2], hi[2])
+                _psi_t(f, g, psi, i, j, 0, 1, o, i, j - p0, b[j], a[j], sign, lo[2], hi[2], u, m,
+                       coef)
             else:
-                _zrow(f, g, m, coef, use_table, psi, b, a, p0, o, sign, i, j, lo[2], hi[2])
+                _psi_k(f, g, psi, i, j, b, a, p0, o, sign, lo[2], hi[2], u, m, coef)
 
 
 @njit(cache=True)

@@ -130,6 +130,7 @@ class Simulation:
                                      np.int32(-1)) for m in self.media.index)
         self._ch = ft.type(self.dt / MU0)
         self._chtab = np.array([self.dt / MU0], ft)
+        self._signs = np.array([1.0, -1.0], ft)
         self._inv_e, self._inv_h, self._prof = [], [], []
         for a in range(3):
             n_lo, n_hi = lay.cpml[a]
@@ -264,11 +265,11 @@ class Simulation:
                 en = (start + n) % self.energy_every == 0
                 wh = K.update_h(ex, ey, ez, hx, hy, hz, self._ch, ih[0], ih[1], ih[2], MU0,
                                 wn[0], wn[1], wn[2], wc[0], wc[1], wc[2], mx, self._chtab,
-                                self._pb_h, self._pa_h, self._r_h, self._psi_h, en)
+                                self._pb_h, self._pa_h, self._r_h, self._psi_h, self._signs, en)
                 we = K.update_e(ex, ey, ez, hx, hy, hz, mx, my, mz, *self._urows, self._ca, self._cb,
                                 self._epst,
                                 ie[0], ie[1], ie[2], wn[0], wn[1], wn[2], wc[0], wc[1], wc[2],
-                                self._pb_e, self._pa_e, self._r_e, self._psi_e, en)
+                                self._pb_e, self._pa_e, self._r_e, self._psi_e, self._signs, en)
                 for comp, lo, hi, w in self._boxes:
                     we += K.update_e_box(comp, lo, hi, ex, ey, ez, hx, hy, hz, mx, my, mz, self._ca,
                                          self._cb, self._epst, ie[0], ie[1], ie[2], w[0], w[1], w[2])
