@@ -8,11 +8,27 @@ Sign convention (Mandelshtam & Taylor 1997): a record is modelled as
 
 from __future__ import annotations
 
+import functools
 from dataclasses import dataclass
 
 import numpy as np
+from threadpoolctl import threadpool_limits
 
 from ringprint.errors import RingprintError
+
+
+def one_blas_thread(func):
+    """Run ``func`` with the BLAS/LAPACK thread pool limited to one thread.
+
+    The inversions solve many small dense problems (about 100 x 100); threading them
+    gains nothing, and when other threads compete for the cores (numba's pool, a
+    second job) OpenBLAS's spinning threads slowed the test suite 2-20 times here.
+    """
+    @functools.wraps(func)
+    def wrapper(*args, **kwargs):
+        with threadpool_limits(limits=1, user_api="blas"):
+            return func(*args, **kwargs)
+    return wrapper
 
 
 @dataclass(frozen=True, eq=False)

@@ -5,7 +5,8 @@ from __future__ import annotations
 import numpy as np
 
 from ringprint.analysis import _fdm
-from ringprint.analysis._poles import Resonance, as_signals, check_dt, check_window, select
+from ringprint.analysis._poles import (Resonance, as_signals, check_dt, check_window, one_blas_thread,
+                                       select)
 from ringprint.errors import RingprintError
 
 __all__ = ["Resonance", "harmonic_inversion"]
@@ -16,6 +17,7 @@ _SHORTER = (0.9, 0.8)    # pieces of the record used to check that poles stay pu
 _ERROR_CELLS = 0.02     # default max_error: this fraction of max(1/T, line width)
 
 
+@one_blas_thread
 def harmonic_inversion(signal, dt, f_min, f_max, *, density=1.2, basis_per_window=100,
                        rcond=1e-10, max_error=None, min_amplitude=1e-7,
                        growth_tolerance=1e-6, oversampling=2.0, attenuation_db=100.0):

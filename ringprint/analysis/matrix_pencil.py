@@ -6,12 +6,14 @@ from __future__ import annotations
 import numpy as np
 import scipy.linalg
 
-from ringprint.analysis._poles import Resonance, as_signals, check_dt, check_window, select
+from ringprint.analysis._poles import (Resonance, as_signals, check_dt, check_window, one_blas_thread,
+                                       select)
 from ringprint.errors import RingprintError
 
 __all__ = ["matrix_pencil"]
 
 
+@one_blas_thread
 def matrix_pencil(signal, dt, n_modes=None, *, tolerance=None, f_min=None, f_max=None,
                   pencil=None, max_samples=6000, max_error=1e-3, min_amplitude=0.0,
                   growth_tolerance=1e-6):

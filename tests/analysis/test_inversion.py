@@ -13,16 +13,14 @@ from hypothesis import given, settings, strategies as st
 from ringprint.analysis import Resonance, harmonic_inversion
 from ringprint.errors import RingprintError
 
+import _synthetic
+
 DT, N = 1e-10, 3000
 
 
 def damped(modes, n=N, dt=DT, real=True):
     """Modes ``(f_hz, q, d)`` -> ``sum d exp(-i w t)`` (+ conjugate if real)."""
-    t = np.arange(n) * dt
-    x = np.zeros(n, complex)
-    for f, q, d in modes:
-        x += d * np.exp(-1j * (2 * np.pi * f - 1j * np.pi * abs(f) / q) * t)
-    return 2 * x.real if real else x
+    return _synthetic.damped(modes, n, dt, real)
 
 
 def nearest(found, f):

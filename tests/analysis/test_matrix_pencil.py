@@ -9,16 +9,14 @@ import pytest
 from ringprint.analysis import Resonance, matrix_pencil
 from ringprint.errors import RingprintError
 
+import _synthetic
+
 DT, N = 1e-10, 1200
 
 
 def damped(modes, n=N, dt=DT, real=True):
     """Modes ``(f_hz, q, d)`` -> ``sum d exp(-i w t)`` (+ conjugate if real)."""
-    t = np.arange(n) * dt
-    x = np.zeros(n, complex)
-    for f, q, d in modes:
-        x += d * np.exp(-1j * (2 * np.pi * f - 1j * np.pi * abs(f) / q) * t)
-    return 2 * x.real if real else x
+    return _synthetic.damped(modes, n, dt, real)
 
 
 MODES = [(1.0e9, 30, 0.5), (1.5e9, 5000, 0.005j), (1.8e9, 300, 0.25)]
