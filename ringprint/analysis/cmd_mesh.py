@@ -42,6 +42,8 @@ def add_arguments(parser: argparse.ArgumentParser) -> None:
     parser.add_argument("case", metavar="CASE.toml", help="the case file")
     parser.add_argument("--out", metavar="DIR", default=None,
                         help="output directory (default: <case folder>/<case name>_mesh/)")
+    parser.add_argument("--ignore-memory-check", action="store_true",
+                        help="go on even when the run would need more memory than is available")
 
 
 def default_out_dir(case_path: str | Path) -> Path:
@@ -204,7 +206,7 @@ def run(args: argparse.Namespace) -> int:
         _check_names(out_dir)
     case = load_case(args.case)
     try:
-        model = build_model(case)
+        model = build_model(case, allow_memory=args.ignore_memory_check)
     except RingprintError as exc:
         raise RingprintError(_with_file(str(exc), args.case, case)) from None
     owners = voxel_image.cell_owners(model)

@@ -229,5 +229,5 @@ def check_memory(estimate, available=None, allow=False):
             if isinstance(estimate, dict) else ""
         raise RingprintError(f"the run needs {need / 2**30:.2f} GiB ({parts}) but only "
                              f"{have / 2**30:.2f} GiB is available: lower cells_per_wavelength or "
-                             "f_max, shrink the padding, or override the memory check")
+                             "f_max, shrink the padding, or override the memory check (--ignore-memory-check)")
     return need
