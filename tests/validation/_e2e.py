@@ -1,0 +1,88 @@
+"""Test utility: write a small case (meshes + TOML) and run ``ringprint run`` on it.
+
+The end-to-end checks (``test_e2e_*.py``) build their parts from
+:mod:`ringprint.meshing.primitives`, write them as binary STL with meshio into a
+temporary folder, write a case file naming them, and run the whole pipeline
+(:func:`ringprint.analysis.pipeline.run_case`). Lengths in the case are millimetres.
+"""
+
+from __future__ import annotations
+
+from pathlib import Path
+
+import meshio
+import numpy as np
+
+from ringprint.analysis.pipeline import run_case
+
+
+def write_stl(path, surface, scale=1.0) -> Path:
+    """Write a primitive surface (coordinates times ``scale``) as a binary STL file."""
+    mesh = meshio.Mesh(np.asarray(surface.vertices, float) * scale, [("triangle", np.asarray(surface.faces))])
+    meshio.write(path, mesh, file_format="stl", binary=True)
+    return Path(path)
+
+
+def _value(v) -> str:
+    if isinstance(v, str) and not v.startswith("{"):
+        return f'"{v}"'
+    if isinstance(v, (list, tuple)):
+        return "[" + ", ".join(_value(x) for x in v) + "]"
+    return str(v)
+
+
+def write_case(folder, name, parts, spectrum, grid=None, analysis=None, probe=None) -> Path:
+    """Write ``<folder>/<name>.toml`` (units mm).
+
+    ``parts`` is a list of ``(part_name, stl_file_name, material)`` where material is
+    ``"pec"`` or an inline TOML table as text, e.g. ``"{ eps_r = 36.0 }"``. ``spectrum``,
+    ``grid``, ``analysis``, ``probe`` are dicts of keys written as they are (strings
+    quoted, numbers and lists as TOML).
+    """
+    lines = [f'title = "{name}"', 'units = "mm"', "", "[spectrum]"]
+    lines += [f"{k} = {_value(v)}" for k, v in spectrum.items()]
+    for part, file, material in parts:
+        lines += ["", "[[part]]", f'name = "{part}"', f'file = "{file}"', f"material = {_value(material)}"]
+    for table, values in (("grid", grid), ("analysis", analysis), ("probe", probe)):
+        if values:
+            lines += ["", f"[{table}]"] + [f"{k} = {_value(v)}" for k, v in values.items()]
+    path = Path(folder) / f"{name}.toml"
+    path.write_text("\n".join(lines) + "\n")
+    return path
+
+
+def run(case_path, out_name="out") -> dict:
+    """Run the case end to end (no progress bar, no echo); the modes.json summary."""
+    case_path = Path(case_path)
+    return run_case(case_path, case_path.parent / out_name, progress=False, echo=None)
+
+
+def nearest_mode(summary, f_ref: float) -> dict:
+    """The mode of a run whose frequency lies nearest ``f_ref`` (fails when there is none)."""
+    modes = summary["modes"]
+    assert modes, "the run found no mode at all"
+    return min(modes, key=lambda m: abs(m["frequency_hz"] - f_ref))
+
+
+def relative_errors(mode, f_ref: float, q_ref: float) -> tuple[float, float]:
+    """``(frequency error, Q error)`` of a mode against a reference, as signed fractions."""
+    return mode["frequency_hz"] / f_ref - 1.0, mode["q"] / q_ref - 1.0
+
+
+def chu_violations(summary) -> list:
+    """Modes of a run whose Q lies below the Chu bound of the enclosing sphere (Chu 1948).
+
+    Every mode must carry ``q_chu``; a missing bound counts as a violation too, since
+    the check would otherwise pass without checking anything.
+    """
+    bad = []
+    for m in summary["modes"]:
+        if m["q_chu"] is None or m["below_chu"] or not m["q"] >= m["q_chu"]:
+            bad.append(m)
+    return bad
+
+
+def describe(summary) -> str:
+    """One line per mode (f, Q, Q_chu, amplitude), for assertion messages."""
+    return "; ".join(f"{m['frequency_hz'] / 1e9:.4f} GHz Q {m['q']:.3g} (chu {m['q_chu']:.3g}, "
+                     f"amp {m['amplitude']:.2g}, vis {m['visibility']:.2g})" for m in summary["modes"])
