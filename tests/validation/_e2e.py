@@ -84,5 +84,5 @@ def chu_violations(summary) -> list:
 
 def describe(summary) -> str:
     """One line per mode (f, Q, Q_chu, amplitude), for assertion messages."""
-    return "; ".join(f"{m['frequency_hz'] / 1e9:.4f} GHz Q {m['q']:.3g} (chu {m['q_chu']:.3g}, "
+    return "; ".join(f"{m['frequency_hz'] / 1e9:.4f} GHz Q {m['q']:.3g} (chu {m['q_chu'] or float('nan'):.3g}, "
                      f"amp {m['amplitude']:.2g}, vis {m['visibility']:.2g})" for m in summary["modes"])
