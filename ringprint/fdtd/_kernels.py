@@ -1,22 +1,24 @@
 """numba kernels of the Yee update (private; wrapped by :mod:`ringprint.fdtd.simulation`).
 
-Layout: every field array is C-contiguous; loops run ``prange`` over the first
-index and hand each ``[i, j, :]`` row to a small row function (inlined at the
-numba level: a separate call per row from a parallel loop is not inlined by LLVM
-and costs as much as a short row) whose loop over k has no branch, so LLVM
-vectorizes it (SIMD over k).
-A row whose media index is the same along k (``ux, uy, uz >= 0``) uses scalar
-coefficients; a mixed row reads ``ca[m], cb[m]`` per cell. After a row is
-updated, its CPML correction runs as its own short row loop over the layer part
-of the row (z layers), or over the whole row when the row lies in an x or y
-layer. The psi arrays exist only inside the layers. E rows on PMC walls are
-updated by :func:`update_e_box` and :func:`cpml_rows`.
+Layout: every field array is C-contiguous. :func:`step` runs one step of the
+sweeps in a single pass over the planes i (E lags H by one plane, so each field
+is read from memory once per step), ``prange`` over runs of planes, one per
+thread. Each ``[i, j, :]`` row goes to a small row function whose loop over k
+has no branch, so LLVM vectorizes it (SIMD over k). The row and plane functions
+are inlined at the numba level (``inline="always"``): a separate call from the
+parallel loop is not inlined by LLVM and costs as much as a short row. A row whose
+media index is the same along k (``u >= 0``) uses scalar coefficients; a mixed
+row reads ``ca[m], cb[m]`` per cell. After a row is updated, its CPML correction
+runs as its own short row loop over the layer part of the row (z layers), or over
+the whole row when the row lies in an x or y layer. The psi arrays exist only
+inside the layers. E rows on PMC walls are updated by :func:`update_e_box` and
+:func:`cpml_rows` after the step.
 
 When ``en`` is true the sweeps also return the energy sums of the half-step
-energy form (Taflove & Hagness 2005): the E sweep sums ``eps E^n . E^n w`` over
-the old values, the H sweep ``mu0 H^(n-1/2) . H^(n+1/2) w``, with per-axis
-weights ``w`` that are zero outside the region the energy is reported for. The
-sums run in float64.
+energy form (Taflove & Hagness 2005): ``eps E^n . E^n w`` over the old E values
+and ``H^(n-1/2) . H^(n+1/2) w``, with per-axis weights ``w`` that are zero outside
+the region the energy is reported for. Each product is formed in the field dtype
+and summed in float64.
 """
 
 from __future__ import annotations
@@ -48,7 +50,7 @@ def _h_row_k(h, p, q, i, j, di, dj, sp, sq, c, w, en):
             old = h[i, j, k]
             new = old - c * ((p[i1, j1, k] - p[i, j, k]) * sp - (q[i, j, k + 1] - q[i, j, k]) * sq[k])
             h[i, j, k] = new
-            s += np.float64(old) * new * w[k]
+            s += np.float64(old * new * w[k])
     else:
         for k in range(h.shape[2]):
             h[i, j, k] = h[i, j, k] - c * ((p[i1, j1, k] - p[i, j, k]) * sp
@@ -64,7 +66,7 @@ def _h_row_t(h, p, r, i, j, sp, sr, c, w, en):
             old = h[i, j, k]
             new = old - c * ((p[i + 1, j, k] - p[i, j, k]) * sp - (r[i, j + 1, k] - r[i, j, k]) * sr)
             h[i, j, k] = new
-            s += np.float64(old) * new * w[k]
+            s += np.float64(old * new * w[k])
     else:
         for k in range(h.shape[2]):
             h[i, j, k] = h[i, j, k] - c * ((p[i + 1, j, k] - p[i, j, k]) * sp
@@ -83,7 +85,7 @@ def _e_row_k(f, p, q, i, j, di, dj, sp, sq, sg, k0, k1, u, m, ca, cb, ept, w, en
                 old = f[i, j, k]
                 f[i, j, k] = a * old + b * ((p[i, j, k] - p[i0, j0, k]) * sp
                                             - (q[i, j, k] - q[i, j, k - 1]) * sq[k])
-                s += np.float64(old) * old * w[k]
+                s += np.float64(old * old * w[k])
             s *= ept[u]
         else:
             for k in range(k0, k1):
@@ -96,7 +98,7 @@ def _e_row_k(f, p, q, i, j, di, dj, sp, sq, sg, k0, k1, u, m, ca, cb, ept, w, en
             f[i, j, k] = ca[mk] * old + sg * cb[mk] * ((p[i, j, k] - p[i0, j0, k]) * sp
                                                        - (q[i, j, k] - q[i, j, k - 1]) * sq[k])
             if en:
-                s += ept[mk] * np.float64(old) * old * w[k]
+                s += ept[mk] * np.float64(old * old * w[k])
     return s
 
 
@@ -110,7 +112,7 @@ def _e_row_t(f, p, r, i, j, sp, sr, k0, k1, u, m, ca, cb, ept, w, en):
                 old = f[i, j, k]
                 f[i, j, k] = a * old + b * ((p[i, j, k] - p[i - 1, j, k]) * sp
                                             - (r[i, j, k] - r[i, j - 1, k]) * sr)
-                s += np.float64(old) * old * w[k]
+                s += np.float64(old * old * w[k])
             s *= ept[u]
         else:
             for k in range(k0, k1):
@@ -123,7 +125,7 @@ def _e_row_t(f, p, r, i, j, sp, sr, k0, k1, u, m, ca, cb, ept, w, en):
             f[i, j, k] = ca[mk] * old + cb[mk] * ((p[i, j, k] - p[i - 1, j, k]) * sp
                                                   - (r[i, j, k] - r[i, j - 1, k]) * sr)
             if en:
-                s += ept[mk] * np.float64(old) * old * w[k]
+                s += ept[mk] * np.float64(old * old * w[k])
     return s
 
 
@@ -189,99 +191,130 @@ def _z_layers(f, g, psi_lo, psi_hi, b, a, rz, o, sign, i, j, u, m, coef):
 
 
 # ------------------------------------------------------------------------ sweeps
-@njit(parallel=True, cache=True, fastmath=_FM)
-def update_h(ex, ey, ez, hx, hy, hz, ch, ixh, iyh, izh, mu0,
-             wxn, wyn, wzn, wxc, wyc, wzc, mdum, chtab, b, a, r, psi, sg, en):
-    """H^(n+1/2) from E^n over all faces, CPML rows included.
-
-    ``b, a``: per-axis CPML coefficients at the cell centres; ``r[axis]`` the cell
-    ranges ``(lo0, lo1, hi0, hi1)`` of the two layers; ``psi`` the 12 auxiliary
-    arrays ``(Hx y lo, y hi, z lo, z hi, Hy x lo, x hi, z lo, z hi, Hz x lo, x hi,
-    y lo, y hi)``; ``sg = (1, -1)`` in the field dtype. Returns ``sum mu0 H_old H_new w``.
-    """
+@njit(cache=True, fastmath=_FM, inline="always")
+def _h_plane(i, f, ch, ih, wn, wc, mdum, chtab, b, a, r, psi, pos, neg, en):
+    """H^(n+1/2) on the plane i of all three H components, CPML rows included.
+    Returns ``sum H_old H_new w`` of the plane."""
+    ex, ey, ez, hx, hy, hz = f
+    ixh, iyh, izh = ih
     nx, ny, nz = hx.shape[0], hy.shape[1], hz.shape[2]
-    total = 0.0
-    pos, neg = sg[0], sg[1]  # signs in the field dtype (a float64 literal would promote)
-    for i in prange(nx):
-        acc = 0.0
-        lx = _layer(r[0], i)
-        for j in range(ny - 1):  # Hx (nx, ny-1, nz-1): -dEz/dy, +dEy/dz
-            acc += _h_row_k(hx, ez, ey, i, j, 0, 1, iyh[j], izh, ch, wzc, en) * wxn[i] * wyc[j]
+    acc = 0.0
+    lx = _layer(r[0], i)
+    for j in range(ny - 1):  # Hx (nx, ny-1, nz-1): -dEz/dy, +dEy/dz
+        acc += _h_row_k(hx, ez, ey, i, j, 0, 1, iyh[j], izh, ch, wc[2], en) * wn[0][i] * wc[1][j]
+        ly = _layer(r[1], j)
+        if ly >= 0:
+            _psi_t(hx, ez, psi[ly], i, j, 0, 1, 1, i, j - r[1][2 * ly], b[1][j], a[1][j], neg,
+                   0, nz - 1, 0, mdum, chtab)
+        _z_layers(hx, ey, psi[2], psi[3], b[2], a[2], r[2], 1, pos, i, j, 0, mdum, chtab)
+    if i < nx - 1:
+        for j in range(ny):  # Hy (nx-1, ny, nz-1): -dEx/dz, +dEz/dx
+            acc += (_h_row_k(hy, ez, ex, i, j, 1, 0, ixh[i], izh, -ch, wc[2], en)
+                    * wc[0][i] * wn[1][j])
+            if lx >= 0:
+                _psi_t(hy, ez, psi[4 + lx], i, j, 1, 0, 1, i - r[0][2 * lx], j, b[0][i],
+                       a[0][i], pos, 0, nz - 1, 0, mdum, chtab)
+            _z_layers(hy, ex, psi[6], psi[7], b[2], a[2], r[2], 1, neg, i, j, 0, mdum, chtab)
+        for j in range(ny - 1):  # Hz (nx-1, ny-1, nz): -dEy/dx, +dEx/dy
+            acc += _h_row_t(hz, ey, ex, i, j, ixh[i], iyh[j], ch, wn[2], en) * wc[0][i] * wc[1][j]
+            if lx >= 0:
+                _psi_t(hz, ey, psi[8 + lx], i, j, 1, 0, 1, i - r[0][2 * lx], j, b[0][i],
+                       a[0][i], neg, 0, nz, 0, mdum, chtab)
             ly = _layer(r[1], j)
             if ly >= 0:
-                _psi_t(hx, ez, psi[ly], i, j, 0, 1, 1, i, j - r[1][2 * ly], b[1][j], a[1][j], neg,
-                       0, nz - 1, 0, mdum, chtab)
-            _z_layers(hx, ey, psi[2], psi[3], b[2], a[2], r[2], 1, pos, i, j, 0, mdum, chtab)
-        if i < nx - 1:
-            for j in range(ny):  # Hy (nx-1, ny, nz-1): -dEx/dz, +dEz/dx
-                acc += (_h_row_k(hy, ez, ex, i, j, 1, 0, ixh[i], izh, -ch, wzc, en)
-                        * wxc[i] * wyn[j])
-                if lx >= 0:
-                    _psi_t(hy, ez, psi[4 + lx], i, j, 1, 0, 1, i - r[0][2 * lx], j, b[0][i],
-                           a[0][i], pos, 0, nz - 1, 0, mdum, chtab)
-                _z_layers(hy, ex, psi[6], psi[7], b[2], a[2], r[2], 1, neg, i, j, 0, mdum, chtab)
-            for j in range(ny - 1):  # Hz (nx-1, ny-1, nz): -dEy/dx, +dEx/dy
-                acc += _h_row_t(hz, ey, ex, i, j, ixh[i], iyh[j], ch, wzn, en) * wxc[i] * wyc[j]
-                if lx >= 0:
-                    _psi_t(hz, ey, psi[8 + lx], i, j, 1, 0, 1, i - r[0][2 * lx], j, b[0][i],
-                           a[0][i], neg, 0, nz, 0, mdum, chtab)
-                ly = _layer(r[1], j)
-                if ly >= 0:
-                    _psi_t(hz, ex, psi[10 + ly], i, j, 0, 1, 1, i, j - r[1][2 * ly], b[1][j],
-                           a[1][j], pos, 0, nz, 0, mdum, chtab)
-        total += acc
-    return mu0 * total
+                _psi_t(hz, ex, psi[10 + ly], i, j, 0, 1, 1, i, j - r[1][2 * ly], b[1][j],
+                       a[1][j], pos, 0, nz, 0, mdum, chtab)
+    return acc
+
+
+@njit(cache=True, fastmath=_FM, inline="always")
+def _e_plane(i, f, m, u, ca, cb, epst, ie, wn, wc, b, a, r, psi, pos, neg, en):
+    """E^(n+1) on the interior edges of plane i, CPML rows included. Returns
+    ``sum eps E_old^2 w`` of the plane."""
+    ex, ey, ez, hx, hy, hz = f
+    mx, my, mz = m
+    ux, uy, uz = u
+    ixe, iye, ize = ie
+    nx, ny, nz = ey.shape[0], ex.shape[1], ex.shape[2]
+    acc = 0.0
+    lx = _layer(r[0], i)
+    if i < nx - 1:
+        for j in range(1, ny - 1):  # Ex (nx-1, ny, nz): +dHz/dy, -dHy/dz
+            uu = ux[i, j]
+            acc += (_e_row_k(ex, hz, hy, i, j, 0, 1, iye[j], ize, pos, 1, nz - 1, uu, mx, ca,
+                             cb, epst, wn[2], en) * wc[0][i] * wn[1][j])
+            ly = _layer(r[1], j)
+            if ly >= 0:
+                _psi_t(ex, hz, psi[ly], i, j, 0, 1, 0, i, j - r[1][2 * ly], b[1][j], a[1][j],
+                       pos, 1, nz - 1, uu, mx, cb)
+            _z_layers(ex, hy, psi[2], psi[3], b[2], a[2], r[2], 0, neg, i, j, uu, mx, cb)
+    if 0 < i < nx - 1:
+        for j in range(ny - 1):  # Ey (nx, ny-1, nz): +dHx/dz, -dHz/dx
+            uu = uy[i, j]
+            acc += (_e_row_k(ey, hz, hx, i, j, 1, 0, ixe[i], ize, neg, 1, nz - 1, uu, my, ca,
+                             cb, epst, wn[2], en) * wn[0][i] * wc[1][j])
+            if lx >= 0:
+                _psi_t(ey, hz, psi[4 + lx], i, j, 1, 0, 0, i - r[0][2 * lx], j, b[0][i],
+                       a[0][i], neg, 1, nz - 1, uu, my, cb)
+            _z_layers(ey, hx, psi[6], psi[7], b[2], a[2], r[2], 0, pos, i, j, uu, my, cb)
+        for j in range(1, ny - 1):  # Ez (nx, ny, nz-1): +dHy/dx, -dHx/dy
+            uu = uz[i, j]
+            acc += (_e_row_t(ez, hy, hx, i, j, ixe[i], iye[j], 0, nz - 1, uu, mz, ca, cb, epst,
+                             wc[2], en) * wn[0][i] * wn[1][j])
+            if lx >= 0:
+                _psi_t(ez, hy, psi[8 + lx], i, j, 1, 0, 0, i - r[0][2 * lx], j, b[0][i],
+                       a[0][i], pos, 0, nz - 1, uu, mz, cb)
+            ly = _layer(r[1], j)
+            if ly >= 0:
+                _psi_t(ez, hx, psi[10 + ly], i, j, 0, 1, 0, i, j - r[1][2 * ly], b[1][j],
+                       a[1][j], neg, 0, nz - 1, uu, mz, cb)
+    return acc
 
 
 @njit(parallel=True, cache=True, fastmath=_FM)
-def update_e(ex, ey, ez, hx, hy, hz, mx, my, mz, ux, uy, uz, ca, cb, epst, ixe, iye, ize,
-             wxn, wyn, wzn, wxc, wyc, wzc, b, a, r, psi, sg, en):
-    """E^(n+1) from H^(n+1/2) on interior edges, CPML rows included.
+def step(nchunk, f, ch, ih, chtab, bh, ah, rh, psih, m, u, ca, cb, epst, ie, be, ae, re, psie,
+         wn, wc, sg, en):
+    """One Yee step of the sweeps: H^(n+1/2) from E^n, then E^(n+1) on the interior
+    edges, both with their CPML rows, in one pass over the planes i.
 
-    ``b, a``: per-axis CPML coefficients at the nodes; ``r[axis]`` the node ranges
-    ``(lo0, lo1, hi0, hi1)`` of the two layers; ``psi`` the 12 auxiliary arrays
-    ``(Ex y lo, y hi, z lo, z hi, Ey x lo, x hi, z lo, z hi, Ez x lo, x hi, y lo,
-    y hi)``; ``ux, uy, uz`` the media index of each (i, j) row when the whole row has
-    one index, else -1; ``sg = (1, -1)`` in the field dtype. Returns ``sum eps E_old^2 w``.
+    ``f = (Ex, Ey, Ez, Hx, Hy, Hz)``. The planes are cut into ``nchunk`` runs, one
+    per thread; within a run, E on plane i is updated right after H on plane i (it
+    needs H on planes i-1 and i, while H on plane i needs the old E on planes i
+    and i+1), so each field is read from memory once per step. E on the first
+    plane of each run needs H from the run before; it is updated after all runs.
+
+    ``ih, ie``: per-axis inverse spacings (cells for H, dual cells for E, both
+    already divided by the CPML kappa); ``bh, ah, be, ae``: per-axis CPML
+    coefficients at the cell centres / nodes; ``rh, re``: ``(3, 4)`` cell / node
+    ranges ``(lo0, lo1, hi0, hi1)`` of the two layers per axis; ``psih`` the 12 H
+    auxiliary arrays ``(Hx y lo, y hi, z lo, z hi, Hy x lo, x hi, z lo, z hi, Hz x
+    lo, x hi, y lo, y hi)``, ``psie`` the E ones in the same order; ``m`` the media
+    index per edge, ``u`` per (i, j) row the index when the whole row has one, else
+    -1; ``wn, wc`` the energy weights per axis at nodes / cell centres; ``sg = (1,
+    -1)`` in the field dtype (a float64 literal would promote the rows to float64).
+
+    Returns ``(sum H^(n-1/2) H^(n+1/2) w, sum eps E^n E^n w)`` (0 when ``en`` is
+    false).
     """
-    nx, ny, nz = ey.shape[0], ex.shape[1], ex.shape[2]
-    total = 0.0
+    nx = f[3].shape[0]
     pos, neg = sg[0], sg[1]
-    for i in prange(nx):
-        acc = 0.0
-        lx = _layer(r[0], i)
-        if i < nx - 1:
-            for j in range(1, ny - 1):  # Ex (nx-1, ny, nz): +dHz/dy, -dHy/dz
-                u = ux[i, j]
-                acc += (_e_row_k(ex, hz, hy, i, j, 0, 1, iye[j], ize, pos, 1, nz - 1, u, mx, ca,
-                                 cb, epst, wzn, en) * wxc[i] * wyn[j])
-                ly = _layer(r[1], j)
-                if ly >= 0:
-                    _psi_t(ex, hz, psi[ly], i, j, 0, 1, 0, i, j - r[1][2 * ly], b[1][j], a[1][j],
-                           pos, 1, nz - 1, u, mx, cb)
-                _z_layers(ex, hy, psi[2], psi[3], b[2], a[2], r[2], 0, neg, i, j, u, mx, cb)
-        if 0 < i < nx - 1:
-            for j in range(ny - 1):  # Ey (nx, ny-1, nz): +dHx/dz, -dHz/dx
-                u = uy[i, j]
-                acc += (_e_row_k(ey, hz, hx, i, j, 1, 0, ixe[i], ize, neg, 1, nz - 1, u, my, ca,
-                                 cb, epst, wzn, en) * wxn[i] * wyc[j])
-                if lx >= 0:
-                    _psi_t(ey, hz, psi[4 + lx], i, j, 1, 0, 0, i - r[0][2 * lx], j, b[0][i],
-                           a[0][i], neg, 1, nz - 1, u, my, cb)
-                _z_layers(ey, hx, psi[6], psi[7], b[2], a[2], r[2], 0, pos, i, j, u, my, cb)
-            for j in range(1, ny - 1):  # Ez (nx, ny, nz-1): +dHy/dx, -dHx/dy
-                u = uz[i, j]
-                acc += (_e_row_t(ez, hy, hx, i, j, ixe[i], iye[j], 0, nz - 1, u, mz, ca, cb, epst,
-                                 wzc, en) * wxn[i] * wyn[j])
-                if lx >= 0:
-                    _psi_t(ez, hy, psi[8 + lx], i, j, 1, 0, 0, i - r[0][2 * lx], j, b[0][i],
-                           a[0][i], pos, 0, nz - 1, u, mz, cb)
-                ly = _layer(r[1], j)
-                if ly >= 0:
-                    _psi_t(ez, hx, psi[10 + ly], i, j, 0, 1, 0, i, j - r[1][2 * ly], b[1][j],
-                           a[1][j], neg, 0, nz - 1, u, mz, cb)
-        total += acc
-    return total
+    mdum = m[0]
+    wh = 0.0
+    we = 0.0
+    for c in prange(nchunk):
+        i0, i1 = c * nx // nchunk, (c + 1) * nx // nchunk
+        sh = 0.0
+        se = 0.0
+        for i in range(i0, i1):
+            sh += _h_plane(i, f, ch, ih, wn, wc, mdum, chtab, bh, ah, rh, psih, pos, neg, en)
+            if i > i0:
+                se += _e_plane(i, f, m, u, ca, cb, epst, ie, wn, wc, be, ae, re, psie, pos, neg, en)
+        wh += sh
+        we += se
+    for c in prange(nchunk):
+        we += _e_plane(c * nx // nchunk, f, m, u, ca, cb, epst, ie, wn, wc, be, ae, re, psie,
+                       pos, neg, en)
+    return wh, we
 
 
 @njit(cache=True)

@@ -250,8 +250,9 @@ class Simulation:
         self._grow(start + n_steps)
         f = self.fields
         ex, ey, ez, hx, hy, hz = (f[c] for c in COMPONENTS)
-        mx, my, mz = self.media.index
-        ie, ih, wn, wc = self._inv_e, self._inv_h, self._wn, self._wc
+        mx, my, mz = media = tuple(self.media.index)
+        ie, ih, wn, wc = (tuple(x) for x in (self._inv_e, self._inv_h, self._wn, self._wc))
+        fs = (ex, ey, ez, hx, hy, hz)
         t_src = (start + np.arange(n_steps) + 0.5) * self.dt
         src_vals = [s.waveform(t_src) for s, *_ in self._src]
         t_end = self.source_end_time
@@ -260,16 +261,14 @@ class Simulation:
         threads = numba.get_num_threads()
         if self.grid.cells < SERIAL_BELOW_CELLS:
             numba.set_num_threads(1)  # thread start-up would cost more than the sweep
+        nchunk = numba.get_num_threads()  # one run of planes per thread (see K.step)
         try:
             for n in range(n_steps):
                 en = (start + n) % self.energy_every == 0
-                wh = K.update_h(ex, ey, ez, hx, hy, hz, self._ch, ih[0], ih[1], ih[2], MU0,
-                                wn[0], wn[1], wn[2], wc[0], wc[1], wc[2], mx, self._chtab,
-                                self._pb_h, self._pa_h, self._r_h, self._psi_h, self._signs, en)
-                we = K.update_e(ex, ey, ez, hx, hy, hz, mx, my, mz, *self._urows, self._ca, self._cb,
-                                self._epst,
-                                ie[0], ie[1], ie[2], wn[0], wn[1], wn[2], wc[0], wc[1], wc[2],
-                                self._pb_e, self._pa_e, self._r_e, self._psi_e, self._signs, en)
+                wh, we = K.step(nchunk, fs, self._ch, ih, self._chtab, self._pb_h, self._pa_h,
+                                self._r_h, self._psi_h, media, self._urows, self._ca, self._cb,
+                                self._epst, ie, self._pb_e, self._pa_e, self._r_e, self._psi_e,
+                                wn, wc, self._signs, en)
                 for comp, lo, hi, w in self._boxes:
                     we += K.update_e_box(comp, lo, hi, ex, ey, ez, hx, hy, hz, mx, my, mz, self._ca,
                                          self._cb, self._epst, ie[0], ie[1], ie[2], w[0], w[1], w[2])
@@ -282,7 +281,7 @@ class Simulation:
                     K.gather(flats[comp], idx, w, col, row)
                 self.step_index = start + n + 1
                 if en:
-                    energy = 0.5 * (we + wh)
+                    energy = 0.5 * (we + MU0 * wh)
                     self._energy[start + n] = energy
                     self._guard(energy, (start + n) * self.dt, t_end)
                 if bar is not None and (n % 16 == 15 or n == n_steps - 1):
