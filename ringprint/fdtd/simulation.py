@@ -250,9 +250,9 @@ class Simulation:
         self._grow(start + n_steps)
         f = self.fields
         ex, ey, ez, hx, hy, hz = (f[c] for c in COMPONENTS)
-        mx, my, mz = media = tuple(self.media.index)
-        ie, ih, wn, wc = (tuple(x) for x in (self._inv_e, self._inv_h, self._wn, self._wc))
-        fs = (ex, ey, ez, hx, hy, hz)
+        mx, my, mz = self.media.index
+        ie = self._inv_e
+        sweep = self._sweep_args()
         t_src = (start + np.arange(n_steps) + 0.5) * self.dt
         src_vals = [s.waveform(t_src) for s, *_ in self._src]
         t_end = self.source_end_time
@@ -265,10 +265,7 @@ class Simulation:
         try:
             for n in range(n_steps):
                 en = (start + n) % self.energy_every == 0
-                wh, we = K.step(nchunk, fs, self._ch, ih, self._chtab, self._pb_h, self._pa_h,
-                                self._r_h, self._psi_h, media, self._urows, self._ca, self._cb,
-                                self._epst, ie, self._pb_e, self._pa_e, self._r_e, self._psi_e,
-                                wn, wc, self._signs, en)
+                wh, we = K.step(nchunk, *sweep, en)
                 for comp, lo, hi, w in self._boxes:
                     we += K.update_e_box(comp, lo, hi, ex, ey, ez, hx, hy, hz, mx, my, mz, self._ca,
                                          self._cb, self._epst, ie[0], ie[1], ie[2], w[0], w[1], w[2])
@@ -293,6 +290,14 @@ class Simulation:
         for c in COMPONENTS:
             if not K.all_finite(f[c]):
                 self._fail(f"field {c} became non-finite")
+
+    def _sweep_args(self) -> tuple:
+        """Arguments of ``_kernels.step`` between ``nchunk`` and ``en``."""
+        f = self.fields
+        return (tuple(f[c] for c in COMPONENTS), self._ch, tuple(self._inv_h), self._chtab,
+                self._pb_h, self._pa_h, self._r_h, self._psi_h, tuple(self.media.index),
+                self._urows, self._ca, self._cb, self._epst, tuple(self._inv_e), self._pb_e,
+                self._pa_e, self._r_e, self._psi_e, tuple(self._wn), tuple(self._wc), self._signs)
 
     def _guard(self, energy, t, t_end):
         if not np.isfinite(energy):
