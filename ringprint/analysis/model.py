@@ -7,12 +7,15 @@ layout of :mod:`ringprint.fdtd` (DEVELOPERS.md, array conventions).
 
 Rules (documented here because the report relies on them):
 
-- **Dielectrics** are averaged per E-edge over the edge's n x n sub-rays (Farjadpour
-  et al. 2006, axis-aligned form): along each sub-ray the complex permittivities of
-  the parts and the air it crosses are combined in series (harmonic mean, the field
-  runs along the ray), then the sub-rays are combined in parallel (arithmetic mean).
-  Conductivity rides along as the imaginary part ``-sigma / (omega0 eps0)`` at the
-  case's loss frequency ``omega0``, so a lossy edge keeps its loss tangent there.
+- **Dielectrics** are averaged per E-edge (after Farjadpour et al. 2006): where one
+  part meets air, ``eps_aa = w <1/eps>^-1 + (1 - w) <eps>``, ``w = n_a^4``, with the
+  part's volume fraction of the edge's dual cell (from the n x n sub-rays) and the
+  interface normal ``n`` from the gradient of that fraction (the weight and its
+  measured accuracy: :func:`_dielectric_average`); where parts touch each other, each
+  sub-ray is combined in series (the field runs along it) and the sub-rays in
+  parallel (see :func:`_dielectric_average`). Conductivity rides along as the
+  imaginary part ``-sigma / (omega0 eps0)`` at the case's loss frequency ``omega0``,
+  so a lossy edge keeps its loss tangent there.
 - **Conductors** (all treated as perfect today) make an edge PEC when the edge itself
   (the middle sub-ray) lies at least half inside the part, the unbiased staircase.
   Sheets, and conductor solids thinner than ``THIN_CELLS`` cells, are staircased
@@ -212,6 +215,63 @@ def _edges_between(nodes: np.ndarray, comp: str) -> np.ndarray:
     return nodes[tuple(lo)] & nodes[tuple(hi)]
 
 
+def _dielectric_average(comp: str, dielectric):
+    """Effective complex permittivity of the edges of ``comp`` near dielectric parts.
+
+    ``dielectric`` lists ``(PartFill, complex eps_r)``. Returns ``(region, eps)``:
+    the slice of the full edge array covering every part's box, and its values.
+
+    Where one part alone meets air on an edge: ``eps_aa = w <1/eps>^-1 + (1 - w) <eps>``
+    with the part's volume fraction ``f`` of the edge's dual cell (the mean over the
+    sub-rays) in both means, the interface normal ``n`` from the gradient of ``f``
+    (central differences on the uniform edge lattice), and ``w = n_a^4``.
+
+    Why ``n_a^4`` and not the ``n_a^2`` of the tensor of Farjadpour et al. (2006): the
+    Yee update keeps only the diagonal of that tensor, and without its off-diagonal
+    terms a field tangential to an oblique surface sees too little permittivity. On
+    a sphere of eps_r 36 at 12 cells across, against the exact Mie poles (Bohren &
+    Huffman 1983), the weights gave these frequency errors (measured here):
+    ``n_a^2``: magnetic dipole +1.82 %, electric dipole +0.38 %; ``0`` (plain volume
+    average): -0.08 %, -1.09 %; ``n_a^4``: +0.61 %, -0.49 % (+0.46 %, -0.26 % at 15.6
+    cells across). ``n_a^4`` keeps both limits exact (interface along or across the
+    edge) and balances the two polarizations; full second-order accuracy would need
+    the off-diagonal terms in the solver.
+
+    Elsewhere (parts touching each other, or no defined normal) each sub-ray is
+    combined in series and the sub-rays in parallel, which is exact for interfaces
+    along the grid axes.
+    """
+    a = COMPONENTS.index(comp)
+    lo = np.min([f.fractions[comp].offset for f, _ in dielectric], axis=0)
+    hi = np.max([np.add(f.fractions[comp].offset, f.fractions[comp].data.shape[1:])
+                 for f, _ in dielectric], axis=0)
+    n_sub = dielectric[0][0].fractions[comp].data.shape[0]
+    claimed = np.zeros((n_sub,) + tuple(hi - lo), np.float64)
+    inverse = np.zeros_like(claimed, np.complex128)
+    volume = []
+    for f, eps_c in dielectric:
+        box = f.fractions[comp]
+        sl = tuple(slice(o - l, o - l + n) for o, l, n in zip(box.offset, lo, box.data.shape[1:]))
+        claimed[(slice(None),) + sl] += box.data
+        inverse[(slice(None),) + sl] += box.data / eps_c
+        frac = np.zeros(tuple(hi - lo))
+        frac[sl] = box.data.mean(axis=0, dtype=np.float64)
+        volume.append(frac)
+    inverse += np.clip(1.0 - claimed, 0.0, 1.0)  # the rest of each sub-ray is air
+    eps = np.mean(1.0 / inverse, axis=0)
+    total = np.sum(volume, axis=0)
+    for frac, (_f, eps_c) in zip(volume, dielectric):
+        grad = np.gradient(frac)
+        g2 = grad[0] ** 2 + grad[1] ** 2 + grad[2] ** 2
+        alone = (frac > 0) & (frac < 1) & (np.abs(total - frac) < 1e-6) & (g2 > 0)
+        fa = frac[alone]
+        w = (grad[a][alone] ** 2 / g2[alone]) ** 2
+        harmonic = 1.0 / (fa / eps_c + (1.0 - fa))
+        arithmetic = fa * eps_c + (1.0 - fa)
+        eps[alone] = w * harmonic + (1.0 - w) * arithmetic
+    return tuple(slice(l, h) for l, h in zip(lo, hi)), eps
+
+
 def assemble(case: Case, grid: meshing.Grid, parts: list[PartModel]):
     """Per-edge ``(eps_r, sigma, pec)``, each a tuple of three arrays (x, y, z).
 
@@ -244,20 +304,8 @@ def assemble(case: Case, grid: meshing.Grid, parts: list[PartModel]):
             pec |= _edges_between(nodes, comp)
         eps = np.ones(shape, np.complex128)
         if dielectric:
-            lo = np.min([f.fractions[comp].offset for f, _ in dielectric], axis=0)
-            hi = np.max([np.add(f.fractions[comp].offset, f.fractions[comp].data.shape[1:])
-                         for f, _ in dielectric], axis=0)
-            n_sub = dielectric[0][0].fractions[comp].data.shape[0]
-            claimed = np.zeros((n_sub,) + tuple(hi - lo), np.float64)
-            inverse = np.zeros_like(claimed, np.complex128)
-            for f, eps_c in dielectric:
-                box = f.fractions[comp]
-                sl = (slice(None),) + tuple(slice(o - l, o - l + n) for o, l, n in
-                                            zip(box.offset, lo, box.data.shape[1:]))
-                claimed[sl] += box.data
-                inverse[sl] += box.data / eps_c
-            inverse += np.clip(1.0 - claimed, 0.0, 1.0)  # the rest of each sub-ray is air
-            eps[tuple(slice(a, b) for a, b in zip(lo, hi))] = np.mean(1.0 / inverse, axis=0)
+            region, eps_box = _dielectric_average(comp, dielectric)
+            eps[region] = eps_box
         eps_out.append(np.ascontiguousarray(eps.real))
         sig_out.append(np.ascontiguousarray(np.maximum(-eps.imag * omega0 * EPS0, 0.0)))
         pec_out.append(pec)

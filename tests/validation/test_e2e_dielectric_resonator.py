@@ -18,11 +18,10 @@ Tolerance 3 %: the formula's 2 % plus 1 % for the grid. The Yee grid's phase err
 at 15 cells per wavelength in the puck at the resonance is about (pi/15)^2/6 = 0.7 %
 along an axis (Taflove & Hagness 2005, ch. 4); less along diagonals.
 
-Measured: +4.9 % at 12 cells across, +2.88 % at 15.5 (the test).
-As for the dielectric sphere, most of this is the first-order error of the per-edge
-permittivity rule on the curved side wall: with a plain volume average in its place
-(right for this mode, whose E field is tangential to every face) the same grids give
-+2.1 % and +0.66 %. The check passes today with little margin.
+Measured: +0.52 % at 12 cells across, +1.30 % at 15.5 (the test), both inside the
+formula's own 2 %; the difference between the two grids is of the size of the formula's
+error, so it says nothing about convergence. (With the first edge rule, harmonic along
+sub-rays: +4.9 % and +2.88 %.)
 """
 
 from __future__ import annotations

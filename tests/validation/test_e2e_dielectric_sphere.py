@@ -26,20 +26,20 @@ Measured (ringprint at the time of writing; frequency and Q errors vs the Mie po
 ====================  ===========  =========  ======
 cells_per_wavelength  cells/diam   f error    Q error
 ====================  ===========  =========  ======
-10                    12.0         +2.99 %    +1.80 %
-13                    15.6         +2.23 %    +1.34 %
-16                    19.2         +1.78 %    +0.59 %
+10                    12.0         +0.61 %    +1.14 %
+13                    15.6         +0.46 %    +0.79 %
+16                    19.2         +0.41 %    +0.33 %
 ====================  ===========  =========  ======
 
-The frequency error falls only like the cell size (first order; error times cells
-across is 35.9, 34.8, 34.2 %), so 1 % would take about 35 cells across: the per-edge
-permittivity rule of :mod:`ringprint.analysis.model` (harmonic mean along each
-sub-ray) under-weights the dielectric wherever the surface is oblique to the edge
-(the permittivity excess summed over the edges is 11 % below the sphere's at 12
-cells across, 8 % at 15.6, 6.5 % at 19.2). The same runs with a plain volume
-average per edge (right for this mode, whose E field is tangential to the surface)
-give -0.08 % at 12 cells across. The 1 % check is kept and marked as an expected
-failure until that rule is fixed; it turns into a failure (strict) once it passes.
+(With the edge rule of the first version, harmonic along sub-rays: +2.99 % and +2.23 %;
+the weight the model now uses, and the figures behind it, are in
+:func:`ringprint.analysis.model._dielectric_average`.)
+
+The electric dipole (a_1 pole, k0 a = 0.72179 - 0.00949j) checks the other
+polarization, whose field crosses the surface: frequency -0.49 % at cells_per_wavelength
+10 over 1.2-1.55 GHz. Its Q comes out about 20 % low on this grid and padding and is
+not asserted: the electric dipole's near field reaches further out than the magnetic
+one's, and one radius of padding is tight for it (not investigated further).
 """
 
 from __future__ import annotations
@@ -111,9 +111,6 @@ def test_magnetic_dipole_frequency_error_falls_with_the_grid(runs):
     assert abs(errs[GRIDS[-1]][0]) < abs(errs[GRIDS[0]][0]), errs
 
 
-@pytest.mark.xfail(strict=True, reason="per-edge harmonic averaging in ringprint.analysis.model "
-                   "under-weights obliquely cut dielectric edges: first-order error, +1.8 % at 19.2 "
-                   "cells across (see module docstring)")
 def test_magnetic_dipole_frequency_within_1_percent(runs):
     """Frequency of the b_1 pole (Bohren & Huffman 1983) within 1 % on the finest grid."""
     f_err, _ = _errors(runs[GRIDS[-1]])
@@ -126,3 +123,23 @@ def test_every_mode_respects_the_chu_bound(runs):
     for n, summary in runs.items():
         assert summary["modes"], f"grid {n}: no mode found"
         assert not _e2e.chu_violations(summary), f"grid {n}: " + _e2e.describe(summary)
+
+
+@pytest.fixture(scope="module")
+def electric_run(tmp_path_factory):
+    folder = tmp_path_factory.mktemp("dielectric_sphere_a1")
+    _e2e.write_stl(folder / "ball.stl", primitives.sphere(RADIUS_MM, n=128))
+    case = _e2e.write_case(folder, "sphere_a1", [("ball", "ball.stl", f"{{ eps_r = {EPS_R} }}")],
+                           {"f_min": "1.2 GHz", "f_max": "1.55 GHz"},
+                           grid={"cells_per_wavelength": GRIDS[0], "padding": RADIUS_MM},
+                           analysis={"q_max": 25})
+    return _e2e.run(case, out_name="out_a1")
+
+
+def test_electric_dipole_frequency_within_1_percent(electric_run):
+    """Frequency of the a_1 pole (Bohren & Huffman 1983, eqs. 4.56-4.57) within 1 % on the
+    coarse grid: the field crossing the surface checks the harmonic part of the edge rule."""
+    pole = ref.dielectric_sphere_pole(EPS_R, RADIUS_MM * 1e-3, n=1, kind="TM")
+    f_ref = ref.pole_frequency(pole)
+    mode = _e2e.nearest_mode(electric_run, f_ref)
+    assert abs(mode["frequency_hz"] / f_ref - 1.0) < F_TOL, _e2e.describe(electric_run)
