@@ -17,10 +17,14 @@ Rules (the report cites them):
 - **Confidence**: ``high`` when the relative error is below 1e-4 and the mode is
   visible above 1e-3 somewhere, ``medium`` when the error is below 1e-2, else ``low``.
 - **Chu bound**: ``q_chu = 1/(ka)^3 + 1/(ka)`` with ``a`` the radius of the smallest
-  sphere enclosing the whole assembly (Chu 1948; McLean 1996). A Q below it breaks
-  a physical law for a mode that radiates from within that sphere, so such a mode
-  gets a note (it signals a numerical problem, or a mode that is not a resonance of
-  the parts).
+  sphere enclosing the whole assembly (Chu 1948; McLean 1996). The bound limits the
+  energy-ratio Q of a field radiating from within that sphere at a real frequency;
+  the Q of a complex natural frequency, ``Re(w) / (2 |Im w|)``, equals that Q only
+  when it is well above 1 (the exact TM_1 pole of a perfectly conducting sphere has
+  Q = 0.866 against a bound of 2.69 for its own sphere; Stratton 1941). So
+  ``below_chu`` states the comparison for every mode, and a mode with
+  ``Q >= CHU_Q_MIN`` below the bound gets a note: there it signals a numerical
+  problem, or a mode that is not a resonance of the parts.
 """
 
 from __future__ import annotations
@@ -32,6 +36,8 @@ from ringprint.analysis.bounds import chu_q
 from ringprint.analysis.inversion import harmonic_inversion
 
 DUPLICATE_SPACING = 0.5
+#: Smallest Q at which a pole below the Chu bound is treated as suspect (see above).
+CHU_Q_MIN = 5.0
 HIGH_ERROR, MEDIUM_ERROR, VISIBLE = 1e-4, 1e-2, 1e-3
 
 
@@ -104,6 +110,7 @@ def mode_table(res, rows, probe_row: int, radius_m: float, bands, margin: float)
             "q_chu": float(q_chu[k]) if np.isfinite(q_chu[k]) else None,
             "q_over_chu": float(q[k] / q_chu[k]) if np.isfinite(q_chu[k]) else None,
             "below_chu": bool(np.isfinite(q_chu[k]) and q[k] < q_chu[k]),
+            "chu_applies": bool(q[k] >= CHU_Q_MIN),
             "bands": [],
             "participation": {},
         }

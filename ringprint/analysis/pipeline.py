@@ -140,7 +140,7 @@ def run_case(case_path, out_dir=None, resume: bool = False, progress: bool | Non
                                     case.analysis.detuning_margin)
         notes = list(model.warnings)
         notes += [f"mode {m['index']}: Q {m['q']:.3g} is below the Chu bound {m['q_chu']:.3g}; "
-                  "treat it as suspect" for m in modes if m["below_chu"]]
+                  "treat it as suspect" for m in modes if m["below_chu"] and m["chu_applies"]]
         summary = {
             "case": _case_summary(case, model),
             "grid": _grid_summary(model),

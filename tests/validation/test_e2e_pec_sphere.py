@@ -25,9 +25,9 @@ The Chu bound: the reference pole itself has Q = 0.866, while the Chu limit of i
 own sphere at its own frequency is 1/(ka)^3 + 1/(ka) = 2.69 (k a = 0.866). The
 bound (Chu 1948; McLean 1996) is on the energy-ratio Q at a real frequency; the Q
 of a complex natural frequency, Re(w) / (2 |Im w|), only equals it for high Q. So
-"every Q at least the Chu bound" does not hold for this correct answer: the check
-is kept, marked as an expected failure, and the premise is shown by a test of the
-reference values themselves.
+"every Q at least the Chu bound" does not hold for this correct answer; ringprint
+applies the bound as a check only from Q >= 5 (ringprint.analysis.modes), and the
+premise is shown by a test of the reference values themselves.
 """
 
 from __future__ import annotations
@@ -96,9 +96,12 @@ def test_reference_pole_q_lies_below_the_chu_limit_of_its_sphere():
     assert q_pole < 0.5 * (ka ** -3 + 1 / ka)
 
 
-@pytest.mark.xfail(strict=True, reason="the exact TM_1 pole (Q 0.866) lies below the Chu limit "
-                   "(2.69) of its own sphere: the pole Q is not the energy Q for Q ~ 1")
-def test_every_mode_respects_the_chu_bound(run):
-    """No mode has a Q below the Chu limit of the enclosing sphere (Chu 1948; McLean 1996)."""
+def test_every_mode_respects_the_chu_bound_where_it_applies(run):
+    """Modes with Q >= CHU_Q_MIN respect the Chu limit of the enclosing sphere (Chu 1948;
+    McLean 1996); the low-Q TM poles here fall below it, as the exact pole does (test
+    above), and are not reported as suspect."""
     assert run["modes"], "no mode found"
     assert not _e2e.chu_violations(run), _e2e.describe(run)
+    tm1 = _e2e.nearest_mode(run, ref.pole_frequency(ref.pec_sphere_pole(RADIUS_MM * 1e-3)))
+    assert tm1["below_chu"] and not tm1["chu_applies"]
+    assert not any("Chu" in note for note in run["notes"])
