@@ -381,8 +381,8 @@ def _bands(ck: Checker, data: dict) -> tuple[tuple[str, ...], tuple[Band, ...]]:
 def _grid(ck: Checker, table, spectrum: Spectrum, unit: float) -> Grid:
     ck.table(table, ("grid",), ("cells_per_wavelength", "padding", "absorber_cells"))
     cells = ck.number(table.get("cells_per_wavelength", 20), ("grid", "cells_per_wavelength"),
-                      low=4.0, hint="fewer than 4 cells per wavelength cannot carry a wave "
-                      "(10-20 is common practice)")
+                      low=10.0, hint="the solver needs at least 10 cells per wavelength in the "
+                      "densest material at f_max (10-20 is common practice)")
     centre = math.sqrt(spectrum.f_min_hz * spectrum.f_max_hz)
     padding = ck.positive(table["padding"], ("grid", "padding")) * unit if "padding" in table \
         else C0 / (2 * math.pi * centre)
