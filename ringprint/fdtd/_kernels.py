@@ -48,7 +48,8 @@ def _h_row_k(h, p, q, i, j, di, dj, sp, sq, c, w, en):
     if en:
         for k in range(h.shape[2]):
             old = h[i, j, k]
-            new = old - c * ((p[i1, j1, k] - p[i, j, k]) * sp - (q[i, j, k + 1] - q[i, j, k]) * sq[k])
+            new = old - c * ((p[i1, j1, k] - p[i, j, k]) * sp
+                             - (q[i, j, k + 1] - q[i, j, k]) * sq[k])
             h[i, j, k] = new
             s += np.float64(old * new * w[k])
     else:
@@ -64,7 +65,8 @@ def _h_row_t(h, p, r, i, j, sp, sr, c, w, en):
     if en:
         for k in range(h.shape[2]):
             old = h[i, j, k]
-            new = old - c * ((p[i + 1, j, k] - p[i, j, k]) * sp - (r[i, j + 1, k] - r[i, j, k]) * sr)
+            new = old - c * ((p[i + 1, j, k] - p[i, j, k]) * sp
+                             - (r[i, j + 1, k] - r[i, j, k]) * sr)
             h[i, j, k] = new
             s += np.float64(old * new * w[k])
     else:
@@ -281,7 +283,9 @@ def step(nchunk, f, ch, ih, chtab, bh, ah, rh, psih, m, u, ca, cb, epst, ie, be,
     per thread; within a run, E on plane i is updated right after H on plane i (it
     needs H on planes i-1 and i, while H on plane i needs the old E on planes i
     and i+1), so each field is read from memory once per step. E on the first
-    plane of each run needs H from the run before; it is updated after all runs.
+    plane of each run needs H from the run before; it is updated after all runs, on
+    the calling thread (a few planes; a second parallel region would cost one more
+    barrier per step, which hurts most when other programs share the cores).
 
     ``ih, ie``: per-axis inverse spacings (cells for H, dual cells for E, both
     already divided by the CPML kappa); ``bh, ah, be, ae``: per-axis CPML
@@ -311,7 +315,7 @@ def step(nchunk, f, ch, ih, chtab, bh, ah, rh, psih, m, u, ca, cb, epst, ie, be,
                 se += _e_plane(i, f, m, u, ca, cb, epst, ie, wn, wc, be, ae, re, psie, pos, neg, en)
         wh += sh
         we += se
-    for c in prange(nchunk):
+    for c in range(nchunk):
         we += _e_plane(c * nx // nchunk, f, m, u, ca, cb, epst, ie, wn, wc, be, ae, re, psie,
                        pos, neg, en)
     return wh, we
