@@ -29,12 +29,13 @@ from ringprint.meshing import available_memory
 
 #: Courant factor the time step is quoted for (the solver's default, fdtd.courant_time_step).
 COURANT = 0.99
-#: Solver throughput (cell updates per second, absorbing layer included) assumed for the
-#: run-time estimate. Measured with ``ringprint.fdtd.bench.run_benchmark`` (CPML on all
-#: faces) on the project's 2-core machine on 2026-12-01 while other work shared it:
-#: 1.8 Mcells/s at 80^3, 4.2-5.2 Mcells/s at 120^3. Re-measure with ``ringprint bench``
-#: when the solver changes and update this figure.
-THROUGHPUT_CELLS_PER_S = 4.0e6
+#: Solver throughput (cell updates per second, absorbing layer, pickups and energy
+#: included) assumed for the run-time estimate. Measured on the project's 2-core machine
+#: on 2026-12-01, idle (load 0.6), numba cache warm: the tag demo (134k cells, 8704
+#: steps) stepped at 118 Mcells/s; ``ringprint bench --size 160`` gave 140-180. The first
+#: run after installing also compiles the kernels (about a minute). Re-measure when the
+#: solver changes and update this figure.
+THROUGHPUT_CELLS_PER_S = 100e6
 FILES = ("model.vti", "model.png", "case.resolved.toml")
 
 
@@ -155,11 +156,12 @@ def summary(model: Model, owners: np.ndarray, estimate: dict, case_path: str) ->
         f"memory: {format_bytes(model.memory['total'])} needed ("
         + ", ".join(f"{k} {format_bytes(v)}" for k, v in model.memory.items() if k != "total")
         + f"), {format_bytes(available_memory())} available",
-        f"run time: about {format_duration(estimate['seconds'])} = {estimate['steps']:,} steps x "
+        f"run time: at most about {format_duration(estimate['seconds'])} = {estimate['steps']:,} steps x "
         f"{estimate['cells']:,} cells at {estimate['throughput'] / 1e6:g} Mcells/s; steps cover the "
         f"source pulse ({format_si(estimate['source_s'], 's')}) and the 1/e ring-down of a "
         f"Q = {case.analysis.q_max:g} mode at f_min, q_max/(pi f_min) = "
-        f"{format_si(estimate['ringdown_s'], 's')}",
+        f"{format_si(estimate['ringdown_s'], 's')} (the run stops sooner once the field energy "
+        "has fallen 80 dB)",
     ]
     if model.warnings:
         lines.append("warnings:")
