@@ -13,13 +13,12 @@ from __future__ import annotations
 
 import argparse
 import contextlib
-import math
 from pathlib import Path
 
 import numpy as np
 
 from ringprint import fdtd
-from ringprint.analysis import voxel_image
+from ringprint.analysis import ringdown, voxel_image
 from ringprint.analysis.case import Case, load_case
 from ringprint.analysis.model import Model, build_model
 from ringprint.analysis.outputs import atomic_path, prepare_output_dir
@@ -77,11 +76,11 @@ def run_time_estimate(model: Model, throughput: float = THROUGHPUT_CELLS_PER_S) 
     """
     case = model.case
     dt = fdtd.courant_time_step(model.fdtd_grid(), COURANT)
-    source = float(fdtd.GaussianPulse(case.spectrum.f_min_hz, case.spectrum.f_max_hz).t_end)
-    ringdown = case.analysis.q_max / (math.pi * case.spectrum.f_min_hz)
-    steps = int(math.ceil((source + ringdown) / dt))
+    source = float(ringdown.source_pulse(case).t_end)
+    steps = ringdown.record_limit(case, dt, source)
     cells = int(np.prod([n - 1 for n in model.grid.shape]))
-    return {"dt_s": dt, "source_s": source, "ringdown_s": ringdown, "steps": steps,
+    return {"dt_s": dt, "source_s": source, "ringdown_s": ringdown.ringdown_time(case),
+            "steps": steps,
             "cells": cells, "throughput": float(throughput), "seconds": cells * steps / throughput}
 
 

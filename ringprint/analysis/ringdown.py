@@ -55,10 +55,19 @@ class Ringdown:
     probe_signal: int
 
 
+def source_pulse(case) -> fdtd.GaussianPulse:
+    """The probe's drive: a Gaussian-modulated sine covering [f_min, f_max]."""
+    return fdtd.GaussianPulse(case.spectrum.f_min_hz, case.spectrum.f_max_hz)
+
+
+def ringdown_time(case) -> float:
+    """Longest ring-down recorded: one amplitude e-folding ``q_max / (pi f_min)`` (s)."""
+    return case.analysis.q_max / (math.pi * case.spectrum.f_min_hz)
+
+
 def record_limit(case, dt: float, source_end: float) -> int:
     """Largest number of steps the run may take (source plus one e-folding of q_max)."""
-    t_ring = case.analysis.q_max / (math.pi * case.spectrum.f_min_hz)
-    return int(math.ceil((source_end + t_ring) / dt))
+    return int(math.ceil((source_end + ringdown_time(case)) / dt))
 
 
 def _pickup_name(k: int, comp: str) -> str:
@@ -72,8 +81,7 @@ def build_simulation(model, probe, pickups, dtype=np.float32):
     sim = fdtd.Simulation(grid, model.media(grid), boundaries="cpml",
                           cpml_cells=model.grid.boundary_cells, dtype=dtype,
                           f_max=case.spectrum.f_max_hz)
-    pulse = fdtd.GaussianPulse(case.spectrum.f_min_hz, case.spectrum.f_max_hz)
-    source = fdtd.LoopSource(center=probe.center, normal=probe.normal, waveform=pulse,
+    source = fdtd.LoopSource(center=probe.center, normal=probe.normal, waveform=source_pulse(case),
                              size_cells=probe.size_cells)
     sim.add_source(source)
     sim.add_pickup(fdtd.LoopEmfPickup.of(source), name="probe_emf")
@@ -144,10 +152,11 @@ def ring(model, sim, out_dir=None, digest: str = "", checkpoint_every_s: float =
         sim.run(n, progress=False)
         if progress is not None:
             progress(sim.step_index, limit)
-        energy = sim.records()["energy"] if sim.step_index >= min_steps else None
-        if energy is not None:
-            peak = energy[start:].max() if energy.size > start else 0.0
-            if peak > 0 and energy[-1] <= DECAY_LEVEL * peak:
+        if sim.step_index >= min_steps:
+            t_energy, energy = sim.energy_record()
+            after = energy[t_energy >= start * dt]
+            peak = after.max() if after.size else 0.0
+            if peak > 0 and after[-1] <= DECAY_LEVEL * peak:
                 reason = f"decayed to {DECAY_LEVEL:g} of the peak energy"
                 break
         now = time.perf_counter()

@@ -336,10 +336,13 @@ class Simulation:
         out = {name: self._rec[:n, col].copy() for col, name in enumerate(self.pickups)}
         out["time"] = np.arange(1, n + 1) * self.dt
         out["time_h"] = out["time"] - 0.5 * self.dt
-        sampled = np.arange(0, n, self.energy_every)
-        out["energy"] = self._energy[sampled]
-        out["energy_time"] = sampled * self.dt
+        out["energy_time"], out["energy"] = self.energy_record()
         return out
+
+    def energy_record(self) -> tuple[np.ndarray, np.ndarray]:
+        """``(energy_time, energy)`` as in :meth:`records`, without copying the pickups."""
+        sampled = np.arange(0, self.step_index, self.energy_every)
+        return sampled * self.dt, self._energy[sampled]
 
     # ------------------------------------------------------------ checkpoints
     def save_checkpoint(self, path) -> None:
