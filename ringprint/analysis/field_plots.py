@@ -1,0 +1,336 @@
+"""Flat pictures of one mode for report.html: field slices and the touch map.
+
+Both pictures are drawn on a bare :class:`matplotlib.figure.Figure` with the Agg
+canvas (no display, no pyplot state) and returned as PNG bytes, small enough to
+embed in the report (about 100-200 kB).
+
+- :func:`field_picture_png` -- three orthogonal slices through the point where the
+  chosen quantity peaks (energy density by default), outlines of every part (each
+  its own line style as well as its own colour, so the picture reads in grey), the
+  probe loop's outline, axes in mm.
+- :func:`touch_map_png` -- the predicted frequency shift at each touch point of the
+  outer surface, seen from above, the front and the side; the worst spots numbered.
+
+:func:`field_quantity` gives the scalar that both pictures and the 3-D view
+(:mod:`ringprint.analysis.field_views`) show: ``"e"`` -> |E| (V/m), ``"h"`` ->
+|H| (A/m), ``"energy"`` -> time-averaged stored energy density (J/m^3). |E| of a
+phasor is ``sqrt(|Ex|^2 + |Ey|^2 + |Ez|^2)``, the peak of the field over a cycle for
+a linearly polarised field. Each mode is normalized to 1 J stored energy
+(:mod:`ringprint.analysis.fieldset`), so the values compare across modes.
+"""
+
+from __future__ import annotations
+
+import io
+
+import numpy as np
+
+from ringprint.analysis.fieldset import FieldSet, ModeField, TouchMap
+from ringprint.analysis.textformat import format_frequency, format_q
+from ringprint.errors import RingprintError
+
+__all__ = ["QUANTITIES", "field_quantity", "resolve_mode", "peak_node", "probe_corners",
+           "mode_title", "worst_touch_spots", "field_picture_png", "touch_map_png",
+           "PART_COLOURS"]
+
+#: quantity key -> (label with unit, for 1 J stored energy)
+QUANTITIES = {
+    "e": "|E| (V/m), 1 J stored",
+    "h": "|H| (A/m), 1 J stored",
+    "energy": "energy density (J/m³), 1 J stored",
+}
+#: Muted, distinct part colours that stay apart for colour-blind readers (Tol, P.,
+#: "Colour schemes", SRON technical note SRON/EPS/TN/09-002, 2021, "muted" set;
+#: hex values from memory).
+PART_COLOURS = ("#CC6677", "#332288", "#DDCC77", "#117733", "#88CCEE",
+                "#882255", "#44AA99", "#999933", "#AA4499")
+#: Line styles paired with the colours, so outlines differ in a grey print too.
+_PART_STYLES = ("-", "--", ":", "-.", (0, (5, 1, 1, 1, 1, 1)), (0, (1, 3)), (0, (8, 2)))
+_AXES = "xyz"
+_DPI = 100
+
+
+def resolve_mode(fs: FieldSet, mode) -> ModeField:
+    """``mode`` as a :class:`ModeField`: pass one, or its 1-based index."""
+    if isinstance(mode, ModeField):
+        return mode
+    if isinstance(mode, (int, np.integer)) and not isinstance(mode, bool):
+        return fs.mode(int(mode))
+    raise RingprintError(f"mode {mode!r} is neither a mode number nor a ModeField; "
+                         "give the mode's index from modes.json (1, 2, ...)")
+
+
+def field_quantity(fs: FieldSet, mode, quantity: str = "e") -> tuple[np.ndarray, str]:
+    """The scalar field shown for ``quantity`` and its label.
+
+    Parameters
+    ----------
+    fs : FieldSet
+    mode : ModeField or int
+        The mode, or its 1-based index.
+    quantity : {"e", "h", "energy"}
+
+    Returns
+    -------
+    values : ndarray of float64, shape ``fs.shape``
+    label : str
+        E.g. ``"|E| (V/m), 1 J stored"``.
+    """
+    if quantity not in QUANTITIES:
+        raise RingprintError(f"quantity {quantity!r} is not known; use one of "
+                             f"{', '.join(QUANTITIES)}")
+    m = resolve_mode(fs, mode)
+    if quantity == "energy":
+        values = fs.energy_density(m)
+    else:
+        phasor = m.e if quantity == "e" else m.h
+        values = np.sqrt(np.sum(np.abs(phasor) ** 2, axis=0))
+    values = np.asarray(values, np.float64)
+    if values.shape != fs.shape or not np.all(np.isfinite(values)):
+        raise RingprintError(f"mode {m.index}: the {quantity} field is not a finite array of "
+                             f"shape {fs.shape}; the fields file is damaged, run the case again")
+    return values, QUANTITIES[quantity]
+
+
+def peak_node(values: np.ndarray) -> tuple[int, int, int]:
+    """Lattice index ``(i, j, k)`` of the largest value; among nodes within 1e-6 of
+    it (a field that is flat along one axis), the one nearest the lattice centre."""
+    top = float(values.max())
+    ties = np.argwhere(values >= top - 1e-6 * abs(top))
+    centre = (np.array(values.shape) - 1) / 2.0
+    best = ties[int(np.argmin(np.sum((ties - centre) ** 2, axis=1)))]
+    return tuple(int(v) for v in best)
+
+
+def probe_corners(probe) -> np.ndarray | None:
+    """Corners (4, 3) in metres of the square probe loop described by ``fs.probe``
+    (centre, axis normal to its plane, side length), in order around the loop; None
+    when there is no probe."""
+    if not probe:
+        return None
+    try:
+        centre = np.asarray(probe["center_m"], float).reshape(3)
+        axis = _AXES.index(str(probe["normal"]))
+        half = 0.5 * float(probe["size_m"])
+    except (KeyError, ValueError, TypeError):
+        raise RingprintError(f"probe {probe!r} is not understood; give center_m [x, y, z], "
+                             "normal 'x'|'y'|'z' and size_m") from None
+    u, v = [a for a in range(3) if a != axis]
+    corners = np.repeat(centre[None, :], 4, axis=0)
+    for row, (su, sv) in enumerate(((-1, -1), (1, -1), (1, 1), (-1, 1))):
+        corners[row, u] += su * half
+        corners[row, v] += sv * half
+    return corners
+
+
+def mode_title(mode: ModeField) -> str:
+    """``"mode 4, 2.410 GHz, Q 37.2"``."""
+    return f"mode {mode.index}, {format_frequency(mode.frequency_hz, digits=4)}, Q {format_q(mode.q)}"
+
+
+def worst_touch_spots(tmap: TouchMap, count: int = 5) -> np.ndarray:
+    """Indices of the ``count`` touch points with the largest |shift|, worst first."""
+    shift = np.asarray(tmap.shift_percent, float)
+    order = np.argsort(-np.abs(shift), kind="stable")
+    return order[:max(int(count), 0)]
+
+
+def _png(fig) -> bytes:
+    from matplotlib.backends.backend_agg import FigureCanvasAgg
+
+    FigureCanvasAgg(fig)
+    buf = io.BytesIO()
+    fig.savefig(buf, format="png", dpi=_DPI)
+    return buf.getvalue()
+
+
+def _colour_bar(fig, mappable, axs, label: str) -> None:
+    bar = fig.colorbar(mappable, ax=list(axs), fraction=0.025, pad=0.01)
+    bar.set_label(label, fontsize=8)
+    bar.formatter.set_powerlimits((-2, 3))
+    bar.ax.tick_params(labelsize=7)
+
+
+def _slice_planes(fs: FieldSet, peak):
+    """(title, horizontal axis, vertical axis, index tuple) of the three planes through
+    the lattice node ``peak``."""
+    i, j, k = peak
+    every = slice(None)
+    return [
+        (f"z = {1e3 * fs.z[k]:.3g} mm", 0, 1, (every, every, k)),
+        (f"y = {1e3 * fs.y[j]:.3g} mm", 0, 2, (every, j, every)),
+        (f"x = {1e3 * fs.x[i]:.3g} mm", 1, 2, (i, every, every)),
+    ]
+
+
+def _part_handles(fs: FieldSet):
+    from matplotlib.lines import Line2D
+
+    out = []
+    for n, name in enumerate(fs.parts):
+        colour, style = PART_COLOURS[n % len(PART_COLOURS)], _PART_STYLES[n % len(_PART_STYLES)]
+        out.append((name, colour, style, Line2D([], [], color=colour, linestyle=style, lw=1.6)))
+    return out
+
+
+def field_picture_png(fs: FieldSet, mode, quantity: str = "energy") -> bytes:
+    """Three orthogonal slices of one mode's field through its peak, as PNG bytes.
+
+    Parameters
+    ----------
+    fs : FieldSet
+    mode : ModeField or int
+        The mode, or its 1-based index.
+    quantity : {"energy", "e", "h"}
+        What to show (:func:`field_quantity`); energy density by default.
+
+    Returns
+    -------
+    bytes
+        A PNG image (about 1000 x 380 pixels).
+
+    References
+    ----------
+    Crameri, F., Shephard, G. E. & Heron, P. J., "The misuse of colour in science
+    communication", Nat. Commun. 11:5444, 2020 (perceptually uniform colour maps
+    that read in grey, as cividis does); Nunez, J. R., Anderton, C. R. & Renslow,
+    R. S., "Optimizing colormaps with consideration for color vision deficiency",
+    PLoS ONE 13(7):e0199239, 2018 (cividis).
+    """
+    from matplotlib import patheffects
+    from matplotlib.figure import Figure
+    from matplotlib.lines import Line2D
+
+    m = resolve_mode(fs, mode)
+    values, label = field_quantity(fs, m, quantity)
+    peak = peak_node(values)
+    top = float(values.max()) or 1.0
+    corners = probe_corners(fs.probe)
+    handles = _part_handles(fs)
+    axes = (fs.x, fs.y, fs.z)
+    fig = Figure(figsize=(10.0, 3.8), layout="constrained")
+    axs = fig.subplots(1, 3)
+    halo = [patheffects.withStroke(linewidth=3.2, foreground="white")]
+    image = None
+    for ax, (name, h, v, cut) in zip(axs, _slice_planes(fs, peak)):
+        plane = values[cut]
+        ext = [1e3 * axes[h][0], 1e3 * axes[h][-1], 1e3 * axes[v][0], 1e3 * axes[v][-1]]
+        image = ax.imshow(plane.T, origin="lower", extent=ext, cmap="cividis", vmin=0.0,
+                          vmax=top, interpolation="bilinear", aspect="equal")
+        hh, vv = 1e3 * axes[h], 1e3 * axes[v]
+        for (pname, colour, style, _), mask in zip(handles, fs.parts.values()):
+            cut_mask = mask[cut].astype(float)
+            if 0 < cut_mask.sum() < cut_mask.size and min(cut_mask.shape) > 1:
+                lines = ax.contour(hh, vv, cut_mask.T, levels=[0.5], colors=[colour],
+                                   linestyles=[style], linewidths=1.6)
+                lines.set_path_effects(halo)
+        ax.plot(1e3 * axes[h][peak[h]], 1e3 * axes[v][peak[v]], marker="+", color="white",
+                markersize=10, mew=2)
+        if corners is not None:
+            loop = np.vstack([corners, corners[:1]])
+            ax.plot(1e3 * loop[:, h], 1e3 * loop[:, v], color="white", lw=2.6)
+            ax.plot(1e3 * loop[:, h], 1e3 * loop[:, v], color="black", lw=1.2)
+        ax.set_title(name, fontsize=9)
+        ax.set_xlabel(f"{_AXES[h]} (mm)", fontsize=8)
+        ax.set_ylabel(f"{_AXES[v]} (mm)", fontsize=8)
+        ax.tick_params(labelsize=7)
+    _colour_bar(fig, image, axs, label)
+    legend = [hd for *_, hd in handles]
+    names = [name for name, *_ in handles]
+    legend.append(Line2D([], [], color="white", marker="+", lw=0, mew=2, markeredgecolor="black"))
+    names.append("peak")
+    if corners is not None:
+        legend.append(Line2D([], [], color="black", lw=1.2))
+        names.append("probe loop")
+    fig.legend(legend, names, loc="outside lower center", ncol=min(len(names), 6), fontsize=8,
+               frameon=False)
+    fig.suptitle(mode_title(m), fontsize=11)
+    return _png(fig)
+
+
+def _check_touch(tmap: TouchMap) -> tuple[np.ndarray, np.ndarray]:
+    points = np.asarray(tmap.points, float)
+    shift = np.asarray(tmap.shift_percent, float)
+    if points.ndim != 2 or points.shape[1] != 3 or shift.shape != (points.shape[0],):
+        raise RingprintError(f"touch map has points {points.shape} and shift_percent {shift.shape}; "
+                             "give (m, 3) points and (m,) shifts")
+    if points.shape[0] == 0:
+        raise RingprintError("touch map has no points; there is nothing to draw")
+    if not (np.all(np.isfinite(points)) and np.all(np.isfinite(shift))):
+        raise RingprintError("touch map holds NaN or inf; the fields file is damaged, run the case again")
+    return points, shift
+
+
+def touch_map_png(fs: FieldSet, tmap: TouchMap, worst_spots=None, mode=None) -> bytes:
+    """The touch map seen from above, the front and the side, as PNG bytes.
+
+    Each touch point is coloured by its predicted frequency shift (%); points with a
+    larger |shift| are drawn over the others. The outline of all parts together is
+    drawn in grey for orientation, and the worst spots carry their rank numbers.
+
+    Parameters
+    ----------
+    fs : FieldSet
+        Gives the part outlines and the title.
+    tmap : TouchMap
+    worst_spots : sequence of int, optional
+        Indices into the touch map's points, worst first (default:
+        :func:`worst_touch_spots`, five spots).
+    mode : ModeField or int, optional
+        The mode, for the title.
+
+    Returns
+    -------
+    bytes
+        A PNG image (about 1000 x 380 pixels).
+
+    References
+    ----------
+    Harrington, R. F., *Time-Harmonic Electromagnetic Fields*, McGraw-Hill, 1961
+    (cavity perturbation, the basis of the shifts shown); Nunez, J. R. et al., PLoS
+    ONE 13(7):e0199239, 2018 (cividis).
+    """
+    from matplotlib.colors import Normalize
+    from matplotlib.figure import Figure
+
+    points, shift = _check_touch(tmap)
+    spots = worst_touch_spots(tmap) if worst_spots is None else np.asarray(worst_spots, int)
+    if spots.size and (spots.min() < 0 or spots.max() >= points.shape[0]):
+        raise RingprintError(f"worst spots {spots.tolist()} point outside the touch map "
+                             f"({points.shape[0]} points); give indices 0-{points.shape[0] - 1}")
+    lo, hi = float(shift.min()), float(shift.max())
+    if hi - lo < 1e-12:
+        lo, hi = lo - 0.5, hi + 0.5
+    norm = Normalize(vmin=lo, vmax=hi)
+    order = np.argsort(np.abs(shift), kind="stable")  # the worst drawn last, on top
+    solid = fs.solid()
+    axes = (fs.x, fs.y, fs.z)
+    fig = Figure(figsize=(10.0, 3.8), layout="constrained")
+    axs = fig.subplots(1, 3)
+    sc = None
+    for ax, (name, h, v) in zip(axs, (("from above", 0, 1), ("from the front", 0, 2),
+                                      ("from the side", 1, 2))):
+        depth = 3 - h - v
+        shadow = solid.any(axis=depth).astype(float)
+        if 0 < shadow.sum() < shadow.size and min(shadow.shape) > 1:
+            ax.contour(1e3 * axes[h], 1e3 * axes[v], shadow.T, levels=[0.5], colors=["0.6"],
+                       linewidths=1.0)
+        sc = ax.scatter(1e3 * points[order, h], 1e3 * points[order, v], c=shift[order],
+                        cmap="cividis", norm=norm, s=14, edgecolors="none")
+        for rank, idx in enumerate(spots, start=1):
+            px, py = 1e3 * points[idx, h], 1e3 * points[idx, v]
+            ax.plot(px, py, marker="o", ms=9, mfc="none", mec="black", mew=1.2)
+            ax.annotate(str(rank), (px, py), xytext=(5, 5), textcoords="offset points", fontsize=8,
+                        fontweight="bold", color="black",
+                        bbox={"boxstyle": "round,pad=0.1", "fc": "white", "ec": "none", "alpha": 0.8})
+        ax.set_aspect("equal", adjustable="datalim")
+        ax.set_title(name, fontsize=9)
+        ax.set_xlabel(f"{_AXES[h]} (mm)", fontsize=8)
+        ax.set_ylabel(f"{_AXES[v]} (mm)", fontsize=8)
+        ax.tick_params(labelsize=7)
+    _colour_bar(fig, sc, axs, "frequency shift (%)")
+    title = "touch map: predicted shift when a fingertip touches"
+    if mode is not None:
+        title = f"{mode_title(resolve_mode(fs, mode))} - {title}"
+    fig.suptitle(title, fontsize=11)
+    return _png(fig)
