@@ -47,6 +47,7 @@ unit such as ``"2.4 GHz"``)::
     [output]                            # optional
     fields = true                       # write per-mode field files
     images = true                       # write mode pictures
+    field_memory = 1024                 # MiB the mode fields may take (coarser lattice beyond)
 
 A part's mesh coordinates (in ``units``) are scaled, then mirrored, rotated about the
 origin and translated, in that order (:meth:`Part.matrix`).
@@ -79,6 +80,8 @@ __all__ = ["Case", "Part", "Probe", "Spectrum", "Grid", "Analysis", "Output", "l
 TOP_KEYS = ("title", "units", "bands", "spectrum", "part", "band", "probe", "grid",
             "analysis", "output")
 AXES = ("x", "y", "z")
+#: Default memory for the mode fields (MiB), case key output.field_memory.
+DEFAULT_FIELD_MEMORY_MB = 1024.0
 
 
 @dataclass(frozen=True)
@@ -150,10 +153,12 @@ class Analysis:
 
 @dataclass(frozen=True)
 class Output:
-    """Switches for the optional outputs: per-mode field files and mode pictures."""
+    """Switches for the optional outputs: per-mode field files and mode pictures, and the
+    memory (bytes) the mode fields may take."""
 
     fields: bool
     images: bool
+    field_memory_bytes: float = DEFAULT_FIELD_MEMORY_MB * 2.0 ** 20
 
 
 @dataclass(frozen=True)
@@ -254,9 +259,12 @@ def _build(ck: Checker, data: dict, source: Path) -> Case:
         detuning_margin=ck.number(table.get("detuning_margin", DEFAULT_MARGIN),
                                   ("analysis", "detuning_margin"), low=0.0, high=1.0,
                                   high_open=True, hint="a fraction: write 0.03 for 3 %"))
-    table = ck.table(data.get("output", {}), ("output",), ("fields", "images"))
+    table = ck.table(data.get("output", {}), ("output",), ("fields", "images", "field_memory"))
     output = Output(fields=ck.boolean(table.get("fields", True), ("output", "fields")),
-                    images=ck.boolean(table.get("images", True), ("output", "images")))
+                    images=ck.boolean(table.get("images", True), ("output", "images")),
+                    field_memory_bytes=2.0 ** 20 * ck.positive(
+                        table.get("field_memory", DEFAULT_FIELD_MEMORY_MB), ("output", "field_memory"),
+                        hint="mebibytes, e.g. 1024"))
     return Case(source, title, units, unit, spectrum, parts, presets, custom, probe, grid,
                 analysis, output)
 

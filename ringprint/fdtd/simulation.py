@@ -100,6 +100,7 @@ class Simulation:
         self.fields = {c: np.zeros(grid.component_shape(c), self.dtype) for c in COMPONENTS}
         self._build_coefficients()
         self.sources, self.pickups = [], {}
+        self.dfts = []
         self._src = []   # (source, component, flat idx, coef)
         self._pick = {}  # component -> [flat idx, weight, column]
         self._rec = np.zeros((0, 0))
@@ -217,6 +218,11 @@ class Simulation:
         rec[:, col] = np.nan  # steps before the pickup existed
         self._rec = rec
 
+    def add_dft(self, dft) -> None:
+        """Accumulate a :class:`~ringprint.fdtd.NodeDft` from the next step on."""
+        dft.attach(self)
+        self.dfts.append(dft)
+
     # --------------------------------------------------------------- running
     @property
     def time(self) -> float:
@@ -277,6 +283,8 @@ class Simulation:
                 for comp, (idx, w, col) in self._pick.items():
                     K.gather(flats[comp], idx, w, col, row)
                 self.step_index = start + n + 1
+                for d in self.dfts:
+                    d.sample(self)
                 if en:
                     energy = 0.5 * (we + MU0 * wh)
                     self._energy[start + n] = energy

@@ -1,0 +1,115 @@
+"""The field of every mode: a second run of the ring-down with running DFTs.
+
+Choice (the issue leaves it open): the mode frequencies are known only after the
+first run has been inverted, so the fields come from a **second pass**. The solver
+is set up again exactly as for the first run (same grid, media and probe; the
+update is deterministic, so the fields are the same) and run for the same number of
+steps; from the end of the source on, every ``every`` steps (about
+``SAMPLES_PER_PERIOD`` samples per period at f_max) it adds E and H on the lattice of
+:mod:`ringprint.analysis.lattice` into one running DFT per mode, at the mode's
+frequency. :func:`ringprint.analysis.separation.separate` then removes the leakage
+between modes of known complex frequency exactly, and each mode's phasors are
+normalized to 1 J of stored energy with the phase of ``sum(E . E)`` set to zero
+(:mod:`ringprint.analysis.fieldset`). The pass costs about as much as the first run
+again, plus the DFT sums (their share grows with the number of modes and the lattice).
+A run killed during this pass resumes from the first pass's last checkpoint and
+repeats the pass.
+"""
+
+from __future__ import annotations
+
+import math
+
+import numpy as np
+
+from ringprint import fdtd
+from ringprint.analysis import lattice as lt
+from ringprint.analysis.fieldset import FieldSet, ModeField
+from ringprint.analysis.ringdown import CHUNK_STEPS, build_simulation
+from ringprint.analysis.separation import separate
+from ringprint.fdtd import EPS0, MU0
+
+#: DFT samples per period at f_max (above Nyquist, so no in-band mode aliases onto another).
+SAMPLES_PER_PERIOD = 3.0
+#: Condition number of the mode separation above which the run notes that modes mix.
+MIXING_CONDITION = 1e3
+
+
+def sample_every(dt: float, f_max: float) -> int:
+    """Steps between DFT samples."""
+    return max(1, int(1.0 / (SAMPLES_PER_PERIOD * f_max * dt)))
+
+
+def normalize(e: np.ndarray, h: np.ndarray, eps_r: np.ndarray, cell_volume: float):
+    """Scale and turn ``(E, H)`` to 1 J of stored energy and a real ``sum(E . E)``.
+
+    Stored energy ``W = 1/4 sum(eps0 eps_r |E|^2 + mu0 |H|^2) dV`` (time average).
+    """
+    w = 0.25 * cell_volume * (EPS0 * np.sum(eps_r * np.sum(np.abs(e) ** 2, axis=0))
+                              + MU0 * np.sum(np.abs(h) ** 2))
+    if not (w > 0 and np.isfinite(w)):
+        return e, h
+    turn = np.exp(-0.5j * np.angle(np.sum(e * e)))
+    scale = turn / math.sqrt(w)
+    return e * scale, h * scale
+
+
+def compute_fields(model, probe, ring, modes, budget_bytes: float, progress=None, notes=None) -> FieldSet:
+    """Run the field pass and return every mode's normalized field on the lattice.
+
+    Parameters
+    ----------
+    model : Model
+    probe : ProbePlacement
+        The probe of the first run.
+    ring : Ringdown
+        The first run (its step count and ring-down start).
+    modes : list of dict
+        The mode table (``index``, ``frequency_hz``, ``q``, ``decay_rate_per_s``).
+    budget_bytes : float
+        Memory the fields may take (chooses the lattice).
+    progress : callable or None
+        ``progress(step, total)``.
+    notes : list or None
+        Receives a line when two modes are too close to separate cleanly.
+
+    References
+    ----------
+    Harrington, R. F., Time-Harmonic Electromagnetic Fields, 1961 (phasors, stored energy).
+    """
+    lat = lt.plan_lattice(model, len(modes), budget_bytes)
+    eps_r, sigma, pec = lt.node_media(model, lat)
+    masks = lt.part_masks(model, lat)
+    axes = [ax[i] for ax, i in zip(model.grid.axes, lat.indices())]
+    fs = FieldSet(*axes, eps_r=eps_r, sigma=sigma, pec=pec, parts=masks,
+                  conductors=tuple(p.name for p in model.parts if p.is_conductor),
+                  decimation=lat.stride, digest=model.case.digest(),
+                  probe={"center_m": [float(v) for v in probe.center], "normal": probe.normal,
+                         "size_m": float(probe.size_cells * model.grid.cell)})
+    if not modes:
+        return fs
+    f = np.array([m["frequency_hz"] for m in modes])
+    omega = 2 * np.pi * f - 1j * np.array([m["decay_rate_per_s"] for m in modes])
+    sim = build_simulation(model, probe, [])
+    dft = fdtd.NodeDft(f, stride=lat.stride, every=sample_every(sim.dt, model.case.spectrum.f_max_hz),
+                       start_step=ring.start_index, box=lat.box())
+    sim.add_dft(dft)
+    assert dft.counts == lat.counts, (dft.counts, lat.counts)
+    while sim.step_index < ring.steps:
+        sim.run(min(CHUNK_STEPS, ring.steps - sim.step_index), progress=False)
+        if progress is not None:
+            progress(sim.step_index, ring.steps)
+    sums_e, sums_h = dft.sums()
+    del sim
+    e, cond = separate(sums_e, dft.times_e, omega, dtype=np.complex64)
+    del sums_e
+    h, _ = separate(sums_h, dft.times_h, omega, dtype=np.complex64)
+    del sums_h, dft
+    if notes is not None and cond > MIXING_CONDITION:
+        notes.append(f"mode fields: some modes lie too close to tell their fields apart cleanly "
+                     f"(condition {cond:.3g}); their field pictures may mix")
+    for k, m in enumerate(modes):
+        ek, hk = normalize(e[k], h[k], eps_r, fs.cell_volume)
+        fs.modes.append(ModeField(int(m["index"]), float(m["frequency_hz"]), float(m["q"]),
+                                  ek.astype(np.complex64), hk.astype(np.complex64)))
+    return fs
