@@ -30,7 +30,7 @@ from ringprint.analysis.textformat import format_frequency, format_q
 from ringprint.errors import RingprintError
 
 __all__ = ["QUANTITIES", "field_quantity", "resolve_mode", "peak_node", "probe_corners",
-           "mode_title", "worst_touch_spots", "field_picture_png", "touch_map_png",
+           "mode_title", "spot_points", "field_picture_png", "touch_map_png",
            "PART_COLOURS"]
 
 #: quantity key -> (label with unit, for 1 J stored energy)
@@ -128,11 +128,18 @@ def mode_title(mode: ModeField) -> str:
     return f"mode {mode.index}, {format_frequency(mode.frequency_hz, digits=4)}, Q {format_q(mode.q)}"
 
 
-def worst_touch_spots(tmap: TouchMap, count: int = 5) -> np.ndarray:
-    """Indices of the ``count`` touch points with the largest |shift|, worst first."""
-    shift = np.asarray(tmap.shift_percent, float)
-    order = np.argsort(-np.abs(shift), kind="stable")
-    return order[:max(int(count), 0)]
+def spot_points(spots) -> np.ndarray:
+    """Positions (k, 3) in metres of touch spots given as modes.json's ``touch.worst``
+    entries (:func:`ringprint.analysis.touch.worst_spots`: dicts with ``"point_m"``)."""
+    try:
+        points = np.array([[float(v) for v in spot["point_m"]] for spot in spots], float)
+    except (TypeError, KeyError, ValueError):
+        raise RingprintError("worst touch spots are not understood; give the list made by "
+                             "touch.worst_spots (dicts with point_m, shift_percent, q_after)") from None
+    points = points.reshape(-1, 3) if points.size else np.zeros((0, 3))
+    if not np.all(np.isfinite(points)):
+        raise RingprintError("a worst touch spot has a NaN position; run the case again")
+    return points
 
 
 def _png(fig) -> bytes:
@@ -273,9 +280,9 @@ def touch_map_png(fs: FieldSet, tmap: TouchMap, worst_spots=None, mode=None) -> 
     fs : FieldSet
         Gives the part outlines and the title.
     tmap : TouchMap
-    worst_spots : sequence of int, optional
-        Indices into the touch map's points, worst first (default:
-        :func:`worst_touch_spots`, five spots).
+    worst_spots : list of dict, optional
+        The worst spots, worst first, as :func:`ringprint.analysis.touch.worst_spots`
+        gives them (modes.json ``touch.worst``); default: that function's five.
     mode : ModeField or int, optional
         The mode, for the title.
 
@@ -294,10 +301,11 @@ def touch_map_png(fs: FieldSet, tmap: TouchMap, worst_spots=None, mode=None) -> 
     from matplotlib.figure import Figure
 
     points, shift = _check_touch(tmap)
-    spots = worst_touch_spots(tmap) if worst_spots is None else np.asarray(worst_spots, int)
-    if spots.size and (spots.min() < 0 or spots.max() >= points.shape[0]):
-        raise RingprintError(f"worst spots {spots.tolist()} point outside the touch map "
-                             f"({points.shape[0]} points); give indices 0-{points.shape[0] - 1}")
+    if worst_spots is None:
+        from ringprint.analysis.touch import worst_spots as find_worst
+
+        worst_spots = find_worst(tmap)
+    spots = spot_points(worst_spots)
     lo, hi = float(shift.min()), float(shift.max())
     if hi - lo < 1e-12:
         lo, hi = lo - 0.5, hi + 0.5
@@ -317,8 +325,8 @@ def touch_map_png(fs: FieldSet, tmap: TouchMap, worst_spots=None, mode=None) -> 
                        linewidths=1.0)
         sc = ax.scatter(1e3 * points[order, h], 1e3 * points[order, v], c=shift[order],
                         cmap="cividis", norm=norm, s=14, edgecolors="none")
-        for rank, idx in enumerate(spots, start=1):
-            px, py = 1e3 * points[idx, h], 1e3 * points[idx, v]
+        for rank, spot in enumerate(spots, start=1):
+            px, py = 1e3 * spot[h], 1e3 * spot[v]
             ax.plot(px, py, marker="o", ms=9, mfc="none", mec="black", mew=1.2)
             ax.annotate(str(rank), (px, py), xytext=(5, 5), textcoords="offset points", fontsize=8,
                         fontweight="bold", color="black",

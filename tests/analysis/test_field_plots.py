@@ -23,7 +23,7 @@ import numpy as np
 import pytest
 from scipy.constants import c as C0, epsilon_0 as EPS0, mu_0 as MU0
 
-from ringprint.analysis import field_plots
+from ringprint.analysis import field_plots, touch
 from ringprint.analysis.fieldset import FieldSet, ModeField, TouchMap
 from ringprint.errors import RingprintError
 
@@ -172,24 +172,17 @@ def test_title_names_mode_frequency_and_q(fs):
     assert field_plots.mode_title(fs.mode(1)) == "mode 1, 9.008 GHz, Q 800"
 
 
-def test_worst_touch_spots_are_the_largest_shifts(fs):
-    tmap = fs.touch[1]
-    spots = field_plots.worst_touch_spots(tmap, 4)
-    assert len(spots) == 4
-    mag = np.abs(tmap.shift_percent)
-    assert np.all(np.diff(mag[spots]) <= 0)
-    assert mag[spots[-1]] >= np.sort(mag)[-4]
-
-
 def test_touch_map_png(fs):
-    png = field_plots.touch_map_png(fs, fs.touch[1], field_plots.worst_touch_spots(fs.touch[1]), mode=1)
+    spots = touch.worst_spots(fs.touch[1], n=3, q_before=fs.mode(1).q)
+    png = field_plots.touch_map_png(fs, fs.touch[1], spots, mode=1)
     img = decode(png)
     not_blank(img)
     assert 20_000 < len(png) < 250_000
+    np.testing.assert_allclose(field_plots.spot_points(spots), [s["point_m"] for s in spots])
 
 
 def test_touch_map_refuses_bad_spots_and_empty_maps(fs):
-    with pytest.raises(RingprintError, match="outside the touch map"):
+    with pytest.raises(RingprintError, match="worst touch spots are not understood"):
         field_plots.touch_map_png(fs, fs.touch[1], [10_000])
     empty = TouchMap(np.zeros((0, 3)), np.zeros((0, 3)), np.zeros(0), np.zeros(0))
     with pytest.raises(RingprintError, match="no points"):
