@@ -20,6 +20,7 @@ COMMANDS: list[tuple[str, str]] = [
     ("bench", "measure solver throughput against this machine's memory bandwidth"),
     ("mesh", "mesh a case and show the grid, memory and run time, without running it"),
     ("run", "find every resonance of a case with its Q and judge it against the bands"),
+    ("show", "show one mode of a finished run in 3-D (parts, field, probe), or write a picture"),
 ]
 
 
