@@ -2,8 +2,9 @@
 it against the operating bands.
 
 Meshes the parts, rings them with a small loop probe in the FDTD solver, fits the
-ring-down by filter diagonalization and writes modes.json, modes.csv, spectrum.png,
-report.html, case.resolved.toml and run.log into the output directory (each file
+ring-down by filter diagonalization, runs the ring-down again to take every mode's
+field, and writes modes.json, modes.csv, spectrum.png, report.html, fields.h5,
+mode_NN.vti, case.resolved.toml and run.log into the output directory (each file
 appears only when complete). A long run leaves a checkpoint every few minutes;
 --resume continues a killed run from it.
 """
@@ -25,6 +26,9 @@ def add_arguments(parser: argparse.ArgumentParser) -> None:
     parser.add_argument("--checkpoint-minutes", type=float, default=5.0, metavar="M",
                         help="minutes between checkpoints of a long run (default 5)")
     parser.add_argument("--quiet", action="store_true", help="no progress bar and no summary table")
+    parser.add_argument("--no-fields", action="store_true",
+                        help="skip the mode fields (the second pass, which part rings, touch maps, "
+                             "fields.h5 and mode_NN.vti): about half the run time")
     parser.add_argument("--ignore-memory-check", action="store_true",
                         help="run even when the memory estimate exceeds the memory available")
 
@@ -36,5 +40,6 @@ def run(args: argparse.Namespace) -> int:
              progress=False if args.quiet else None,
              checkpoint_every_s=60.0 * args.checkpoint_minutes,
              allow_memory=args.ignore_memory_check,
-             echo=None if args.quiet else print)
+             echo=None if args.quiet else print,
+             fields=False if args.no_fields else None)
     return 0

@@ -4,10 +4,12 @@ Rules (the report cites them):
 
 - A lattice node belongs to a part when it lies inside it
   (:func:`ringprint.analysis.lattice.part_masks`), or when it is an air node within
-  the **shell** of that part: closer to it than to any other part and no farther
-  than ``SHELL_CELLS`` grid cells (at least one lattice step). The shell is where a
-  conductor's own field lives (none is inside it) and where a dielectric's fringing
-  field leaves it.
+  the **shell** of that part: no farther than ``SHELL_CELLS`` grid cells (at least
+  one lattice step) and closer to it than to any other part. Conductors claim their
+  shells first: the field in the air next to a conductor is held there by the
+  charges and currents on it (none is inside it), while a plastic part nearby only
+  loads it; a dielectric's shell is the air near it that no conductor claims, where
+  its fringing field leaves it.
 - For each part: the shares of the mode's time-averaged electric and magnetic
   energy inside and in the shell, each a fraction of the mode's whole stored energy
   in the computed region; ``share`` is their sum, the number the report quotes
@@ -17,8 +19,12 @@ Rules (the report cites them):
   air nodes next to a conductor (within ``SURFACE_CELLS`` cells), where
   ``|H_tan| = |J_s|``; it says which conductor carries the current, and so the
   conductor loss, of the mode.
-- ``rings_in``: the part with the largest share, when that share is at least
-  ``RINGS_IN_MIN``; else none (the mode lives in the air between parts).
+- ``rings_in``: the part that carries the mode. A conductor is scored by its share
+  (its field is around it), a dielectric by the energy inside it alone (the air near
+  a plastic cover mostly holds the field of the conductors under it, while a
+  dielectric resonator holds most of its energy inside). The highest score wins
+  when it is at least ``RINGS_IN_MIN`` of the mode's energy; else none (the mode
+  lives in the air between the parts, as a strongly radiating one does).
 """
 
 from __future__ import annotations
@@ -30,7 +36,7 @@ from ringprint.analysis.fieldset import FieldSet, ModeField
 
 SHELL_CELLS = 2.0
 SURFACE_CELLS = 1.5
-RINGS_IN_MIN = 0.25
+RINGS_IN_MIN = 0.1
 
 
 class Regions:
@@ -47,16 +53,23 @@ class Regions:
         self.shell, self.surface = {}, {}
         if not names or not np.any(label >= 0):
             return
-        dist, idx = ndimage.distance_transform_edt(label < 0, sampling=fs.spacing, return_indices=True)
-        nearest = label[tuple(idx)]
+        air = label < 0
         shell = max(SHELL_CELLS * cell, fs.spacing * 1.01)
         surf = max(SURFACE_CELLS * cell, fs.spacing * 1.01)
-        air = label < 0
-        for k, n in enumerate(names):
-            mine = air & (nearest == k)
-            self.shell[n] = mine & (dist <= shell)
-            self.surface[n] = mine & (dist <= surf)
-
+        claimed = np.zeros(fs.shape, bool)
+        for group in (set(fs.conductors), set(names) - set(fs.conductors)):
+            ks = [k for k, n in enumerate(names) if n in group and self.inside[n].any()]
+            if not ks:
+                continue
+            own = np.where(np.isin(label, ks), label, -1)
+            dist, idx = ndimage.distance_transform_edt(own < 0, sampling=fs.spacing, return_indices=True)
+            nearest = own[tuple(idx)]
+            for k in ks:
+                n = names[k]
+                mine = air & (nearest == k) & ~claimed
+                self.shell[n] = mine & (dist <= shell)
+                self.surface[n] = mine & (dist <= surf)
+            claimed |= np.any([self.shell[names[k]] for k in ks], axis=0)
 
 def participation(fs: FieldSet, mode: ModeField, regions: Regions | None = None) -> dict:
     """``{"share": {part: f}, "detail": {part: {...}}, "rings_in": name or None}`` for one mode."""
@@ -78,6 +91,8 @@ def participation(fs: FieldSet, mode: ModeField, regions: Regions | None = None)
         detail[n] = d
         share[n] = min(1.0, d["electric_inside"] + d["magnetic_inside"] + d["electric_near"]
                        + d["magnetic_near"])
-    top = max(share, key=share.get) if share else None
+    score = {n: share[n] if n in fs.conductors else
+             detail[n]["electric_inside"] + detail[n]["magnetic_inside"] for n in share}
+    top = max(score, key=score.get) if score else None
     return {"share": share, "detail": detail,
-            "rings_in": top if top is not None and share[top] >= RINGS_IN_MIN else None}
+            "rings_in": top if top is not None and score[top] >= RINGS_IN_MIN else None}

@@ -20,12 +20,16 @@ from ringprint import __version__
 from ringprint.analysis import placement, ringdown
 from ringprint.analysis.bounds import enclosing_sphere
 from ringprint.analysis.case import load_case
+from ringprint.analysis.field_stage import check_budget, field_section, remove_stale, run_field_stage
 from ringprint.analysis.model import build_model
 from ringprint.analysis.modes import find_resonances, mode_table
 from ringprint.analysis.outputs import RunLogHandler, atomic_write_text, prepare_output_dir
 from ringprint.analysis.report import format_summary_table, write_results
 
 log = logging.getLogger("ringprint.run")
+
+#: Version of the results directory layout (2: mode fields, participation, touch maps).
+RESULTS_LAYOUT = 2
 
 
 def default_out_dir(case_path) -> Path:
@@ -78,7 +82,7 @@ def _grid_summary(model) -> dict:
 
 def run_case(case_path, out_dir=None, resume: bool = False, progress: bool | None = None,
              checkpoint_every_s: float = 300.0, allow_memory: bool = False,
-             halt_after_steps: int | None = None, echo=print) -> dict:
+             halt_after_steps: int | None = None, echo=print, fields: bool | None = None) -> dict:
     """Run one case end to end and write its results; returns the modes.json summary.
 
     Parameters
@@ -99,11 +103,15 @@ def run_case(case_path, out_dir=None, resume: bool = False, progress: bool | Non
         Stop after this many steps, leaving a checkpoint (tests of ``resume``).
     echo : callable
         Where the final summary table goes (None: nowhere).
+    fields : bool or None
+        Compute the mode fields (second pass, participation, touch maps, fields.h5,
+        mode_NN.vti); None: as the case's ``output.fields`` says.
     """
     t_start = time.perf_counter()
     case = load_case(case_path)
     out = prepare_output_dir(out_dir if out_dir is not None else default_out_dir(case_path))
     digest = case.digest()
+    fields = case.output.fields if fields is None else bool(fields)
     sim = ringdown.load_checkpoint(out, digest) if resume else None  # refuse early
     handler = RunLogHandler(out)
     log.addHandler(handler)
@@ -116,6 +124,8 @@ def run_case(case_path, out_dir=None, resume: bool = False, progress: bool | Non
                             progress=lambda d, n, what: bar.at(0.1 * d / n, "meshing"))
         for note in model.warnings:
             log.warning(note)
+        if fields:
+            check_budget(model, case.output.field_memory_bytes)
         log.info("grid %s nodes, cell %.4g m", model.grid.shape, model.grid.cell)
         if sim is None:
             probe = placement.place_probe(model)
@@ -128,7 +138,8 @@ def run_case(case_path, out_dir=None, resume: bool = False, progress: bool | Non
         log.info("probe at %s m, normal %s, %d cell(s) (%s); %d pickups", probe.center, probe.normal,
                  probe.size_cells, probe.chosen, len(sim.pickups))
         ring = ringdown.ring(model, sim, out, digest, checkpoint_every_s,
-                             progress=lambda s, n: bar.at(0.1 + 0.8 * s / n, "stepping"),
+                             progress=lambda s, n: bar.at(0.1 + (0.4 if fields else 0.8) * s / n,
+                                                          "stepping"),
                              halt_after_steps=halt_after_steps)
         log.info("%d steps, dt %.4g s, stopped on %s, %.1f s", ring.steps, ring.dt, ring.stop_reason,
                  ring.wall_time_s)
@@ -139,9 +150,15 @@ def run_case(case_path, out_dir=None, resume: bool = False, progress: bool | Non
         modes, hazards = mode_table(res, rows, ring.probe_signal, radius, bands,
                                     case.analysis.detuning_margin)
         notes = list(model.warnings)
+        fs = None
+        remove_stale(out)
+        if fields:
+            fs = run_field_stage(model, probe, ring, modes, hazards, out, notes,
+                                 progress=lambda s, n: bar.at(0.5 + 0.4 * s / n, "fields"))
         notes += [f"mode {m['index']}: Q {m['q']:.3g} is below the Chu bound {m['q_chu']:.3g}; "
                   "treat it as suspect" for m in modes if m["below_chu"] and m["chu_applies"]]
         summary = {
+            "results_layout": RESULTS_LAYOUT,
             "case": _case_summary(case, model),
             "grid": _grid_summary(model),
             "modes": modes,
@@ -156,13 +173,17 @@ def run_case(case_path, out_dir=None, resume: bool = False, progress: bool | Non
                               "size_cells": probe.size_cells, "placed": probe.chosen},
                     "pickups": ring.names},
             "notes": notes,
+            "fields": None if fs is None else {
+                "file": "fields.h5", "lattice_step_m": fs.spacing, "decimation": fs.decimation,
+                "nodes": list(fs.shape), "normalization": "1 J stored energy per mode"},
         }
         spectrum = {"record": ring.signals[ring.probe_signal], "dt_s": ring.dt,
                     "start_index": ring.start_index}
         atomic_write_text(out / "case.resolved.toml", case.resolved_toml())
         log.info("%d modes, %d hazards", len(modes), len(hazards))
         handler.flush()
-        write_results(out, summary, spectrum, bands, log_lines=None)
+        write_results(out, summary, spectrum, bands, log_lines=None,
+                      extra_html=field_section(summary, fs, case.output.images))
         ringdown.remove_checkpoint(out)
         bar.at(1.0, "done")
     finally:

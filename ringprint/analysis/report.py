@@ -277,12 +277,15 @@ def _modes_section(summary: Mapping) -> str:
     return "\n".join(out)
 
 
-def build_report_html(summary: Mapping, png: bytes, bands: Sequence[Mapping] = ()) -> str:
+def build_report_html(summary: Mapping, png: bytes, bands: Sequence[Mapping] = (),
+                      extra_html: str = "") -> str:
     """The report page as one self-contained HTML string (image embedded as base64).
 
     ``summary`` must already be checked (:func:`validate_summary`); ``png`` is the
-    spectrum picture. Order: title and safety note, case (parts, spectrum limits,
-    bands, grid), spectrum plot, hazard table, all modes, run facts, notes.
+    spectrum picture; ``extra_html`` (the hazardous modes' field pictures and touch
+    maps) follows the hazard table. Order: title and safety note, case (parts,
+    spectrum limits, bands, grid), spectrum plot, hazard table, field pictures, all
+    modes, run facts, notes.
     """
     case = _case_dict(summary)
     title = case.get("title") or case["name"]
@@ -305,6 +308,7 @@ def build_report_html(summary: Mapping, png: bytes, bands: Sequence[Mapping] = (
         f'<img id="spectrum" alt="Probe spectrum with operating bands shaded and a numbered '
         f'marker at each mode" src="data:image/png;base64,{image}">',
         _hazard_section(summary, hazards),
+        extra_html,
         _modes_section(summary),
         "<h2>Run</h2>",
         _facts(_grid_facts(summary["grid"]) + _run_facts(summary), "run-facts"),
@@ -352,8 +356,8 @@ def _checked(summary, spectrum, bands, out_dir=None, png=None) -> tuple[dict, li
 
 
 def write_results(out_dir: str | os.PathLike, summary: Mapping, spectrum: Mapping,
-                  bands: Sequence[Mapping], log_lines: Iterable[str] | None = None
-                  ) -> dict[str, Path]:
+                  bands: Sequence[Mapping], log_lines: Iterable[str] | None = None,
+                  extra_html: str = "") -> dict[str, Path]:
     """Write every result file of a run into ``out_dir``.
 
     Everything is checked first, so bad input writes nothing. Then ``modes.json``,
@@ -374,6 +378,8 @@ def write_results(out_dir: str | os.PathLike, summary: Mapping, spectrum: Mappin
     log_lines : iterable of str, optional
         Lines for ``run.log``. Leave None when a
         :class:`~ringprint.analysis.outputs.RunLogHandler` writes the log.
+    extra_html : str
+        A ready HTML fragment placed after the hazard table (field pictures).
 
     Returns
     -------
@@ -392,7 +398,7 @@ def write_results(out_dir: str | os.PathLike, summary: Mapping, spectrum: Mappin
         "json": write_json(out / "modes.json", data),
         "csv": write_csv(out / "modes.csv", data),
         "png": atomic_write_bytes(out / "spectrum.png", png),
-        "html": atomic_write_text(out / "report.html", build_report_html(data, png, bands)),
+        "html": atomic_write_text(out / "report.html", build_report_html(data, png, bands, extra_html)),
     }
     if log_lines is not None:
         written["log"] = write_run_log(out / "run.log", log_lines)

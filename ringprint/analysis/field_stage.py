@@ -1,0 +1,82 @@
+"""The field stage of ``ringprint run``: mode fields, which part rings, touch maps, files.
+
+After the modes are known: :func:`ringprint.analysis.mode_fields.compute_fields`
+(second pass), :func:`ringprint.analysis.participation.participation` per mode
+(into modes.json: ``participation``, ``participation_detail``, ``rings_in``; the
+hazard entries gain ``part``), the touch maps of :mod:`ringprint.analysis.touch`
+(modes.json ``touch``: the worst spots), then ``fields.h5`` and ``mode_NN.vti``.
+
+When the budget ``output.field_memory`` cannot hold the fields of all the modes
+found, the results are written without fields and a note says what to raise:
+nothing of the first run is lost.
+"""
+
+from __future__ import annotations
+
+import logging
+
+from ringprint.analysis import lattice as lt
+from ringprint.analysis import touch
+from ringprint.analysis.fieldset_io import FIELDS_NAME, write_fieldset, write_mode_vti
+from ringprint.analysis.mode_fields import compute_fields
+from ringprint.analysis.participation import Regions, participation
+from ringprint.errors import RingprintError
+
+log = logging.getLogger("ringprint.run")
+
+#: Tissue pressed on the outer surface for the touch maps (Gabriel et al. 1996).
+TOUCH_TISSUE = "skin_dry"
+#: Worst touch spots listed per mode.
+WORST_SPOTS = 5
+
+
+def remove_stale(out_dir) -> None:
+    """Delete field files a previous run left in ``out_dir`` (they would not match)."""
+    for path in [out_dir / FIELDS_NAME, *out_dir.glob("mode_[0-9]*.vti")]:
+        path.unlink(missing_ok=True)
+
+
+def field_section(summary, fs, images: bool = True) -> str:
+    """The report's per-hazard field pictures and touch maps (empty without fields or images)."""
+    if fs is None or not images:
+        return ""
+    from ringprint.analysis.report_fields import hazard_field_section
+    worst = {m["index"]: m.get("touch", {}).get("worst", []) for m in summary["modes"]}
+    return hazard_field_section(summary, fs, worst)
+
+
+def check_budget(model, budget_bytes: float) -> None:
+    """Refuse, before any stepping, a budget too small for the field of even one mode."""
+    lt.plan_lattice(model, 1, budget_bytes)
+
+
+def run_field_stage(model, probe, ring, modes, hazards, out_dir, notes, progress=None):
+    """Compute and attach everything field-derived; returns the FieldSet or None."""
+    budget = model.case.output.field_memory_bytes
+    try:
+        lt.plan_lattice(model, len(modes), budget)
+    except RingprintError as exc:
+        notes.append(f"mode fields skipped: {exc}")
+        log.warning("mode fields skipped: %s", exc)
+        return None
+    fs = compute_fields(model, probe, ring, modes, budget, progress=progress, notes=notes)
+    log.info("mode fields on every %d grid node(s): %s points", fs.decimation,
+             "x".join(str(n) for n in fs.shape))
+    regions = Regions(fs, model.grid.cell)
+    for m, mf in zip(modes, fs.modes):
+        p = participation(fs, mf, regions)
+        m["participation"] = p["share"]
+        m["participation_detail"] = p["detail"]
+        m["rings_in"] = p["rings_in"]
+    for h in hazards:
+        h["part"] = modes[h["mode"] - 1].get("rings_in")
+    if fs.parts and any(mask.any() for mask in fs.parts.values()):
+        fs.touch = touch.touch_maps(fs, tissue=TOUCH_TISSUE)
+        for m in modes:
+            tmap = fs.touch.get(m["index"])
+            if tmap is not None:
+                m["touch"] = {"tissue": TOUCH_TISSUE,
+                              "worst": touch.worst_spots(tmap, n=WORST_SPOTS)}
+    write_fieldset(out_dir / FIELDS_NAME, fs)
+    write_mode_vti(out_dir, fs)
+    return fs
