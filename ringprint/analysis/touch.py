@@ -1,0 +1,368 @@
+"""Touch detuning: how far a fingertip pressed on the outside pulls each mode.
+
+Cavity perturbation (Harrington 1961, sec. 7-2). Air (``eps0``) in a region ``V_t`` is
+replaced by tissue of complex relative permittivity ``eps_t`` (``exp(-i w t)``
+convention: ``Im eps_t >= 0`` for loss, see :mod:`ringprint.analysis.tissue`). To first
+order the complex angular frequency ``omega = w_r - i gamma`` moves by
+
+    delta = d_omega / omega = - Int_Vt( d_eps E0* . E_in ) dV / Int( eps |E0|^2 + mu0 |H0|^2 ) dV,
+
+with ``d_eps = eps0 (eps_t - 1)``, ``E0, H0`` the unperturbed mode and ``E_in`` the field
+inside the tissue. The denominator is four times the stored energy, taken from the
+lattice itself (``eps = eps0 eps_r``), so it is 4 J for normalized fields.
+
+Local field. The tissue is a thin pad pressed on a surface with unit normal ``n``.
+Across a thin flat layer the tangential E is continuous and so is the normal D, so
+inside it ``E_in = E_t + E_n / eps_t`` (the depolarization of a thin plate: factor 1
+along its normal, 0 along it). Then ``E0* . E_in = |E0|^2 - (1 - 1/eps_t) |n . E0|^2``.
+Without this correction a high-permittivity tissue on a conductor, where E is normal,
+would be overestimated by about ``|eps_t|`` (about 40 for skin). With ``normal=None``
+the uncorrected ``E_in = E0`` is used (right for a slab along E, or a low contrast).
+
+Q after the touch. With ``omega = w_r - i gamma`` and ``Q = w_r / (2 gamma)``, the new
+``omega' = omega (1 + delta)`` has ``w_r' = w_r (1 + Re delta) + gamma Im delta`` and
+``gamma' = gamma (1 + Re delta) - w_r Im delta``, so
+
+    1/Q' = 2 gamma' / w_r' = ((1 + Re delta)/Q - 2 Im delta) / (1 + Re delta + Im delta / (2 Q))
+         ~ 1/Q - 2 Im delta          (to first order).
+
+A lossy tissue has ``Im eps_t > 0``, hence ``Im delta < 0`` and ``1/Q' > 1/Q``: the
+touch adds its own loss ``1/Q_t = -2 Im delta`` (losses add as ``1/Q``; Pozar 2012,
+sec. 6.7). The frequency shift reported is ``100 (w_r' / w_r - 1)`` percent.
+
+The map (:func:`touch_map`). Touch points are the exterior air nodes next to the solid
+(exterior: air connected to the lattice boundary, so air sealed inside a part is never
+touched). Each point's outward normal is minus the gradient of the solid indicator
+smoothed by a Gaussian of one node. The pad at a touch point is every exterior node
+within ``pad_radius_m`` of it: a ball of tissue cut by the surface, about a fingertip
+pressed flat (default radius 5 mm, a contact about 10 mm across, common practice). On a
+coarse lattice (radius below one spacing) the pad is the touch node alone. Every
+point is computed at once: the products ``Re(E_a E_b*)`` over exterior nodes are
+convolved with the ball (FFT) and combined with each point's normal.
+"""
+
+from __future__ import annotations
+
+import numbers
+
+import numpy as np
+from scipy import ndimage, signal
+
+from ringprint.analysis.fieldset import FieldSet, ModeField, TouchMap
+from ringprint.analysis.tissue import tissue_permittivity
+from ringprint.errors import RingprintError
+from ringprint.fdtd import EPS0, MU0
+
+__all__ = ["DEFAULT_PAD_RADIUS_M", "exterior_air", "perturbation_shift", "q_after", "shift_percent",
+           "touch_map", "touch_maps", "touch_points", "worst_spots"]
+
+#: Default pad radius (m): a fingertip contact about 10 mm across (common practice).
+DEFAULT_PAD_RADIUS_M = 5e-3
+
+_PAIRS = ((0, 0), (1, 1), (2, 2), (0, 1), (0, 2), (1, 2))
+
+
+def _mode(fs: FieldSet, mode) -> ModeField:
+    if isinstance(mode, ModeField):
+        found = mode
+    elif isinstance(mode, numbers.Integral):
+        found = fs.mode(int(mode))
+    else:
+        raise RingprintError(f"mode must be a ModeField or a mode index, got {type(mode).__name__}")
+    if found.e.shape != (3, *fs.shape) or found.h.shape != (3, *fs.shape):
+        raise RingprintError(f"mode {found.index}: field shape {found.e.shape} does not match the "
+                             f"lattice (3, {', '.join(map(str, fs.shape))}); rebuild the field set")
+    if not (np.isfinite(found.frequency_hz) and found.frequency_hz > 0):
+        raise RingprintError(f"mode {found.index}: frequency {found.frequency_hz!r} Hz must be > 0")
+    if not found.q > 0:  # also refuses NaN; inf (lossless) is fine
+        raise RingprintError(f"mode {found.index}: Q {found.q!r} must be > 0 (inf for a lossless mode)")
+    return found
+
+
+def _eps_tissue(tissue, frequency_hz: float) -> complex:
+    if isinstance(tissue, str):
+        return complex(tissue_permittivity(tissue, frequency_hz))
+    try:
+        eps = complex(tissue)
+    except (TypeError, ValueError):
+        raise RingprintError(f"tissue must be a tissue name or a complex permittivity, got {tissue!r}") from None
+    if not (np.isfinite(eps.real) and np.isfinite(eps.imag) and eps.real >= 1.0 and eps.imag >= 0):
+        raise RingprintError(f"tissue permittivity {eps} must have real part >= 1 and imaginary part "
+                             f">= 0 (loss, exp(-i w t) convention)")
+    return eps
+
+
+def _square(v: np.ndarray) -> np.ndarray:
+    """``|v|^2`` summed over the component axis, in float64."""
+    return np.einsum("c...,c...->...", v.real, v.real, dtype=float) \
+        + np.einsum("c...,c...->...", v.imag, v.imag, dtype=float)
+
+
+def _energy4(fs: FieldSet, m: ModeField) -> float:
+    """``Int(eps |E|^2 + mu0 |H|^2) dV`` over the lattice (four times the stored energy)."""
+    total = (EPS0 * float(np.sum(fs.eps_r * _square(m.e))) + MU0 * float(np.sum(_square(m.h)))) \
+        * fs.cell_volume
+    if not total > 0:
+        raise RingprintError(f"mode {m.index} has no stored energy on the lattice; its fields are empty")
+    return total
+
+
+def _unit(normal) -> np.ndarray:
+    n = np.asarray(normal, dtype=float)
+    if n.shape != (3,) or not np.all(np.isfinite(n)) or np.linalg.norm(n) == 0:
+        raise RingprintError(f"normal must be a non-zero 3-vector, got {normal!r}")
+    return n / np.linalg.norm(n)
+
+
+def perturbation_shift(fs: FieldSet, mode, region, eps_tissue, normal=None) -> complex:
+    """Relative complex frequency shift when tissue fills the air nodes of ``region``.
+
+    Parameters
+    ----------
+    fs : FieldSet
+        Lattice, media and fields.
+    mode : ModeField or int
+        The mode (or its 1-based index in ``fs``).
+    region : ndarray of bool, shape ``fs.shape``
+        Air nodes filled with tissue; it must not overlap a part.
+    eps_tissue : complex or str
+        Relative permittivity of the tissue (``Im >= 0`` is loss, ``exp(-i w t)``), or a
+        tissue name from :data:`ringprint.analysis.tissue.TISSUES`, evaluated at the
+        mode's frequency.
+    normal : array_like of 3 floats, optional
+        Unit normal of the pad for the local-field correction ``E_in = E_t + E_n/eps_t``;
+        None uses ``E_in = E0``.
+
+    Returns
+    -------
+    complex
+        ``d_omega / omega``; the real part is the relative frequency shift (negative:
+        down), ``-2 Im`` the added ``1/Q`` (see the module docstring).
+
+    Raises
+    ------
+    RingprintError
+        For a region of the wrong shape, an empty region or one overlapping a part, a
+        bad permittivity or normal, or a mode without energy.
+
+    References
+    ----------
+    Harrington, R. F., *Time-Harmonic Electromagnetic Fields*, McGraw-Hill, 1961,
+    sec. 7-2 (cavity perturbation by a material change).
+    """
+    m = _mode(fs, mode)
+    region = np.asarray(region)
+    if region.shape != fs.shape or region.dtype != bool:
+        raise RingprintError(f"region must be a boolean mask shaped like the lattice {fs.shape}, "
+                             f"got {region.dtype} {region.shape}")
+    if not region.any():
+        raise RingprintError("region selects no node; give at least one air node")
+    if (region & _solid(fs)).any():
+        raise RingprintError("region overlaps a part; tissue can only replace air nodes")
+    eps_t = _eps_tissue(eps_tissue, m.frequency_hz)
+    e = m.e[:, region].astype(complex)
+    s = float(np.sum(np.abs(e) ** 2))
+    if normal is not None:
+        n = _unit(normal)
+        en2 = float(np.sum(np.abs(np.einsum("c,cp->p", n, e)) ** 2))
+        s = s - (1.0 - 1.0 / eps_t) * en2
+    return complex(-EPS0 * (eps_t - 1.0) * s * fs.cell_volume / _energy4(fs, m))
+
+
+def _q_arg(q) -> float:
+    q = float(q)
+    if not q > 0:
+        raise RingprintError(f"Q {q!r} must be > 0 (inf for a lossless mode)")
+    return q
+
+
+def shift_percent(delta, q):
+    """Frequency shift in percent, ``100 (w_r'/w_r - 1) = 100 (Re delta + Im delta / (2Q))``."""
+    delta = np.asarray(delta, dtype=complex)
+    return 100.0 * (delta.real + delta.imag / (2.0 * _q_arg(q)))
+
+
+def q_after(delta, q):
+    """Q with the tissue present, ``Re omega' / (-2 Im omega')`` for ``omega' = omega (1 + delta)``.
+
+    ``q`` may be ``inf`` (lossless before the touch); the result is ``inf`` only when the
+    mode stays lossless. See the module docstring for the derivation.
+    """
+    delta = np.asarray(delta, dtype=complex)
+    inv_q = 1.0 / _q_arg(q)
+    num = 1.0 + delta.real + 0.5 * delta.imag * inv_q
+    den = (1.0 + delta.real) * inv_q - 2.0 * delta.imag
+    with np.errstate(divide="ignore"):
+        return np.where(den > 0, num / np.where(den > 0, den, 1.0), np.inf)
+
+
+def _solid(fs: FieldSet) -> np.ndarray:
+    return fs.solid() | np.asarray(fs.pec, dtype=bool)
+
+
+def exterior_air(fs: FieldSet) -> np.ndarray:
+    """Air nodes connected (6-neighbour) to the lattice boundary: the air a hand can reach."""
+    solid = _solid(fs)
+    if not solid.any():
+        raise RingprintError("the lattice has no solid part to touch; a touch map needs at least one part")
+    labels, _ = ndimage.label(~solid)
+    faces = np.concatenate([labels[[0, -1]].ravel(), labels[:, [0, -1]].ravel(),
+                            labels[:, :, [0, -1]].ravel()])
+    outside = np.unique(faces[faces > 0])
+    if outside.size == 0:
+        raise RingprintError("no air reaches the lattice boundary, so nothing can be touched; "
+                             "leave air around the parts")
+    return np.isin(labels, outside)
+
+
+def touch_points(fs: FieldSet, exterior: np.ndarray | None = None):
+    """Touch nodes and their outward unit normals.
+
+    Returns ``(index (m, 3) int, normals (m, 3))``: exterior air nodes with a solid
+    6-neighbour, and minus the gradient (central differences) of the solid indicator
+    smoothed by a Gaussian of one node. Where that gradient vanishes (a node midway in
+    a one-node slot) the normal is the axis with most solid neighbours; its sign is
+    then arbitrary, which the local-field correction does not see.
+    """
+    solid = _solid(fs)
+    ext = exterior_air(fs) if exterior is None else exterior
+    idx = np.argwhere(ext & ndimage.binary_dilation(solid))
+    smooth = ndimage.gaussian_filter(solid.astype(np.float32), sigma=1.0, mode="nearest")
+    grad = np.empty((idx.shape[0], 3))
+    counts = np.zeros((idx.shape[0], 3))
+    for a in range(3):
+        up, down = idx.copy(), idx.copy()
+        up[:, a] = np.minimum(idx[:, a] + 1, fs.shape[a] - 1)
+        down[:, a] = np.maximum(idx[:, a] - 1, 0)
+        grad[:, a] = smooth[tuple(up.T)] - smooth[tuple(down.T)]
+        counts[:, a] = (solid[tuple(up.T)] & (up[:, a] != idx[:, a])).astype(float) \
+            + (solid[tuple(down.T)] & (down[:, a] != idx[:, a]))
+    normals = -grad
+    size = np.linalg.norm(normals, axis=1)
+    flat = size <= 1e-6
+    normals[flat] = np.eye(3)[np.argmax(counts[flat], axis=1)]
+    size[flat] = 1.0
+    return idx, normals / size[:, None]
+
+
+def _ball(radius_nodes: float) -> np.ndarray:
+    r = int(np.floor(radius_nodes + 1e-9))
+    o = np.arange(-r, r + 1)
+    d2 = o[:, None, None] ** 2 + o[None, :, None] ** 2 + o[None, None, :] ** 2
+    return (d2 <= radius_nodes ** 2 + 1e-9).astype(float)
+
+
+class _Surface:
+    """What every mode's map shares: touch nodes, normals, the pad kernel and the crop box."""
+
+    def __init__(self, fs: FieldSet, pad_radius_m: float):
+        if not (isinstance(pad_radius_m, numbers.Real) and np.isfinite(pad_radius_m) and pad_radius_m >= 0):
+            raise RingprintError(f"pad_radius_m must be a length >= 0 in metres, got {pad_radius_m!r}")
+        self.exterior = exterior_air(fs)
+        self.index, self.normals = touch_points(fs, self.exterior)
+        self.kernel = _ball(pad_radius_m / fs.spacing)
+        r = self.kernel.shape[0] // 2
+        lo = np.maximum(self.index.min(axis=0) - r, 0)
+        hi = np.minimum(self.index.max(axis=0) + r + 1, fs.shape)
+        self.box = tuple(slice(a, b) for a, b in zip(lo, hi))
+        self.local = tuple((self.index - lo).T)
+        self.points = np.stack([fs.x[self.index[:, 0]], fs.y[self.index[:, 1]],
+                                fs.z[self.index[:, 2]]], axis=1)
+
+
+def _shifts(fs: FieldSet, m: ModeField, surf: _Surface, eps_t: complex) -> np.ndarray:
+    """``delta`` at every touch point (see the module docstring)."""
+    e = m.e[(slice(None), *surf.box)].astype(complex)
+    ext = surf.exterior[surf.box]
+    products = np.stack([np.where(ext, (e[a] * np.conj(e[b])).real, 0.0) for a, b in _PAIRS])
+    pads = signal.fftconvolve(products, surf.kernel[None], mode="same", axes=(1, 2, 3))
+    at = pads[(slice(None), *surf.local)]          # (6, m)
+    n = surf.normals.T
+    total = at[0] + at[1] + at[2]
+    normal = (n[0] ** 2 * at[0] + n[1] ** 2 * at[1] + n[2] ** 2 * at[2]
+              + 2.0 * (n[0] * n[1] * at[3] + n[0] * n[2] * at[4] + n[1] * n[2] * at[5]))
+    s = total - (1.0 - 1.0 / eps_t) * normal
+    return -EPS0 * (eps_t - 1.0) * s * fs.cell_volume / _energy4(fs, m)
+
+
+def touch_map(fs: FieldSet, mode, tissue="skin_dry", pad_radius_m: float = DEFAULT_PAD_RADIUS_M,
+              _surface: _Surface | None = None) -> TouchMap:
+    """Predicted detuning of one mode by a fingertip at every touch point of the outer surface.
+
+    Parameters
+    ----------
+    fs : FieldSet
+        Lattice with at least one part, and the mode's fields.
+    mode : ModeField or int
+        The mode (or its 1-based index).
+    tissue : str or complex
+        Tissue name (evaluated at the mode's frequency) or a relative permittivity.
+    pad_radius_m : float
+        Radius of the tissue ball centred on each touch point (m); at least the touch
+        node itself is used when it is below one lattice spacing.
+
+    Returns
+    -------
+    TouchMap
+        Points (m), outward normals, shift in percent (negative: down) and Q after.
+
+    Raises
+    ------
+    RingprintError
+        If the lattice has no part, no exterior air, or for a bad tissue or radius.
+
+    References
+    ----------
+    Harrington, R. F., *Time-Harmonic Electromagnetic Fields*, McGraw-Hill, 1961,
+    sec. 7-2 (cavity perturbation); local field of a thin plate from the continuity of
+    tangential E and normal D.
+    """
+    m = _mode(fs, mode)
+    eps_t = _eps_tissue(tissue, m.frequency_hz)
+    surf = _surface if _surface is not None else _Surface(fs, pad_radius_m)
+    delta = _shifts(fs, m, surf, eps_t)
+    return TouchMap(points=surf.points.copy(), normals=surf.normals.copy(),
+                    shift_percent=shift_percent(delta, m.q), q_after=q_after(delta, m.q))
+
+
+def touch_maps(fs: FieldSet, tissue="skin_dry", pad_radius_m: float = DEFAULT_PAD_RADIUS_M) -> dict:
+    """:func:`touch_map` for every mode of ``fs``: ``{mode index: TouchMap}`` (surface found once)."""
+    surf = _Surface(fs, pad_radius_m)
+    return {m.index: touch_map(fs, m, tissue, pad_radius_m, _surface=surf) for m in fs.modes}
+
+
+def worst_spots(tmap: TouchMap, n: int = 5, min_separation_m: float = 0.01,
+                q_before: float | None = None) -> list[dict]:
+    """The ``n`` touch points with the largest ``|shift|``, at least ``min_separation_m`` apart.
+
+    Greedy: take points in order of decreasing ``|shift_percent|`` and skip any closer
+    than ``min_separation_m`` to one already taken (default 10 mm, a fingertip width).
+    Each spot is ``{"point_m", "normal", "shift_percent", "q_after", "q_drop_percent"}``;
+    ``q_drop_percent = 100 (1 - q_after / q_before)`` needs the mode's Q before the touch
+    (``q_before``, e.g. ``mode.q``) and is None without it (a TouchMap does not carry it).
+    """
+    if not (isinstance(n, numbers.Integral) and n >= 1):
+        raise RingprintError(f"n must be a whole number >= 1, got {n!r}")
+    if not (isinstance(min_separation_m, numbers.Real) and min_separation_m >= 0):
+        raise RingprintError(f"min_separation_m must be a length >= 0 in metres, got {min_separation_m!r}")
+    if q_before is not None:
+        q_before = _q_arg(q_before)
+    order = np.argsort(-np.abs(tmap.shift_percent), kind="stable")
+    taken: list[int] = []
+    for i in order:
+        if len(taken) == n:
+            break
+        if all(np.linalg.norm(tmap.points[i] - tmap.points[j]) >= min_separation_m for j in taken):
+            taken.append(int(i))
+    spots = []
+    for i in taken:
+        qa = float(tmap.q_after[i])
+        drop = None
+        if q_before is not None:
+            drop = 100.0 if np.isinf(q_before) and np.isfinite(qa) else \
+                (0.0 if np.isinf(q_before) else 100.0 * (1.0 - qa / q_before))
+        spots.append({"point_m": [float(v) for v in tmap.points[i]],
+                      "normal": [float(v) for v in tmap.normals[i]],
+                      "shift_percent": float(tmap.shift_percent[i]), "q_after": qa,
+                      "q_drop_percent": drop})
+    return spots

@@ -1,0 +1,168 @@
+"""Touch map (ringprint.analysis.touch) on a hand-built lattice with a box-shaped part.
+
+The closed-form checks of the perturbation formula itself are in
+tests/validation/test_touch_perturbation.py; here: the surface found, the normals, the
+signs the physics demands (Harrington 1961, sec. 7-2: added permittivity lowers the
+frequency; a lossy tissue lowers Q), and that the FFT map equals the direct sum.
+"""
+
+import numpy as np
+import pytest
+
+from ringprint.analysis.fieldset import FieldSet, ModeField
+from ringprint.analysis.touch import (exterior_air, perturbation_shift, q_after, shift_percent,
+                                      touch_map, touch_maps, touch_points, worst_spots)
+from ringprint.errors import RingprintError
+
+N, H = 36, 1e-3
+OUTER = (slice(10, 26), slice(12, 24), slice(8, 28))    # the part's nodes
+HOLLOW = (slice(13, 23), slice(15, 21), slice(11, 25))  # sealed air inside it
+CENTRE = np.array([17.5, 17.5, 17.5]) * H
+
+
+def _fields(seed: float):
+    x = np.arange(N) * H
+    X, Y, Z = np.meshgrid(x, x, x, indexing="ij")
+    k = 2 * np.pi / (40 * H)
+    e = np.stack([np.cos(k * Y + seed) + 0.3j * np.sin(k * Z),
+                  np.sin(k * X) * np.exp(1j * k * Z) + 0.2,
+                  np.cos(k * (X + Y)) - 0.5j * np.cos(k * Z - seed)]).astype(np.complex64)
+    h = (0.003 * np.roll(e, 1, axis=0)).astype(np.complex64)
+    return e, h
+
+
+def _fieldset(parts=True) -> FieldSet:
+    solid = np.zeros((N,) * 3, bool)
+    if parts:
+        solid[OUTER] = True
+        solid[HOLLOW] = False
+    x = np.arange(N) * H
+    modes = [ModeField(i + 1, 2e9 * (1 + 0.2 * i), 300.0, *_fields(0.7 * i)) for i in range(2)]
+    eps = np.where(solid, 3.0, 1.0).astype(np.float32)
+    return FieldSet(x, x.copy(), x.copy(), eps, np.zeros_like(eps), np.zeros(solid.shape, np.uint8),
+                    parts={"can": solid} if parts else {}, modes=modes)
+
+
+@pytest.fixture(scope="module")
+def fs():
+    return _fieldset()
+
+
+@pytest.fixture(scope="module")
+def lossless_map(fs):
+    return touch_map(fs, 1, tissue=10.0, pad_radius_m=3e-3)
+
+
+def test_surface_is_the_outside_of_the_part(fs):
+    ext = exterior_air(fs)
+    assert not ext[HOLLOW].any() and not ext[OUTER].any()
+    idx, normals = touch_points(fs)
+    assert idx.shape[0] > 0 and idx.shape == normals.shape
+    assert np.all(ext[tuple(idx.T)])
+    # every face node of the outer box has its touch node: 2 (16*12 + 16*20 + 12*20) of them
+    # on the faces (edge and corner neighbours are only diagonal, not 6-neighbours)
+    assert idx.shape[0] == 2 * (16 * 12 + 16 * 20 + 12 * 20)
+
+
+def test_normals_point_outward(fs, lossless_map):
+    n, p = lossless_map.normals, lossless_map.points
+    assert np.allclose(np.linalg.norm(n, axis=1), 1.0)
+    assert np.all(np.einsum("ij,ij->i", n, p - CENTRE) > 0)
+    # at the middle of the +x face the normal is +x (geometry of the box)
+    mid = np.argmin(np.linalg.norm(p - np.array([26, 17.5, 17.5]) * H, axis=1))
+    assert n[mid] == pytest.approx([1, 0, 0], abs=1e-3)
+
+
+def test_signs(fs, lossless_map):
+    """Harrington 1961, sec. 7-2: added (lossless) permittivity lowers every frequency and
+    leaves Q alone; a lossy tissue lowers Q everywhere."""
+    assert np.all(lossless_map.shift_percent < 0)
+    assert np.allclose(lossless_map.q_after, 300.0, rtol=1e-9)
+    lossy = touch_map(fs, 1, tissue="skin_dry", pad_radius_m=3e-3)
+    assert np.all(lossy.shift_percent < 0) and np.all(lossy.q_after < 300.0)
+
+
+def _ball_region(fs, point, radius):
+    x = fs.x
+    X, Y, Z = np.meshgrid(x, x, x, indexing="ij")
+    d2 = (X - point[0]) ** 2 + (Y - point[1]) ** 2 + (Z - point[2]) ** 2
+    return (d2 <= radius ** 2 * (1 + 1e-9)) & exterior_air(fs)
+
+
+@pytest.mark.parametrize("radius", [3e-3, 0.4e-3])
+def test_map_equals_direct_sum(fs, radius):
+    """The FFT-convolved map equals perturbation_shift on the same ball (direct sum), with
+    the same local-field correction, to rounding; a radius below one spacing is the node."""
+    eps = complex(12.0, 4.0)
+    tmap = touch_map(fs, 2, tissue=eps, pad_radius_m=radius)
+    q = fs.mode(2).q
+    for i in np.linspace(0, tmap.points.shape[0] - 1, 7).astype(int):
+        region = _ball_region(fs, tmap.points[i], radius)
+        if radius < H:
+            assert region.sum() == 1
+        delta = perturbation_shift(fs, 2, region, eps, normal=tmap.normals[i])
+        assert tmap.shift_percent[i] == pytest.approx(float(shift_percent(delta, q)), rel=1e-9)
+        assert tmap.q_after[i] == pytest.approx(float(q_after(delta, q)), rel=1e-9)
+
+
+def test_shift_ignores_field_scale(fs):
+    """delta is a ratio of two quadratic forms: scaling the fields changes nothing (to the
+    float32 rounding of the stored phasors)."""
+    m = fs.mode(1)
+    region = _ball_region(fs, np.array([27, 17, 17]) * H, 2e-3)
+    scaled = ModeField(1, m.frequency_hz, m.q, 3 * m.e, 3 * m.h)
+    a = perturbation_shift(fs, m, region, 5 + 1j, normal=(1, 0, 0))
+    b = perturbation_shift(fs, scaled, region, 5 + 1j, normal=(2, 0, 0))
+    assert a == pytest.approx(b, rel=1e-6) and a.real < 0 and a.imag < 0
+
+
+def test_touch_maps_and_worst_spots(fs):
+    maps = touch_maps(fs, tissue="muscle", pad_radius_m=2e-3)
+    assert sorted(maps) == [1, 2]
+    tmap = maps[1]
+    spots = worst_spots(tmap, n=4, min_separation_m=8e-3, q_before=300.0)
+    assert len(spots) == 4
+    shifts = [abs(s["shift_percent"]) for s in spots]
+    assert shifts == sorted(shifts, reverse=True)
+    assert shifts[0] == pytest.approx(np.max(np.abs(tmap.shift_percent)))
+    pts = np.array([s["point_m"] for s in spots])
+    dist = np.linalg.norm(pts[:, None] - pts[None], axis=2)
+    assert np.all(dist[np.triu_indices(4, 1)] >= 8e-3)
+    for s in spots:
+        assert s["q_drop_percent"] == pytest.approx(100 * (1 - s["q_after"] / 300.0))
+        assert s["q_drop_percent"] > 0 and len(s["normal"]) == 3
+    assert worst_spots(tmap, n=2)[0]["q_drop_percent"] is None
+    assert len(worst_spots(tmap, n=10_000, min_separation_m=0.0)) == tmap.points.shape[0]
+
+
+def test_errors(fs):
+    with pytest.raises(RingprintError, match="no solid part"):
+        touch_map(_fieldset(parts=False), 1)
+    full = _fieldset()
+    full.parts = {"slab": np.ones(full.shape, bool)}
+    with pytest.raises(RingprintError, match="no air reaches"):
+        touch_map(full, 1)
+    with pytest.raises(RingprintError, match="valid tissues"):
+        touch_map(fs, 1, tissue="bone_marrowx")
+    with pytest.raises(RingprintError, match="pad_radius_m"):
+        touch_map(fs, 1, pad_radius_m=-1.0)
+    with pytest.raises(RingprintError, match="no mode 9"):
+        touch_map(fs, 9)
+    region = np.zeros(fs.shape, bool)
+    with pytest.raises(RingprintError, match="no node"):
+        perturbation_shift(fs, 1, region, 4.0)
+    with pytest.raises(RingprintError, match="boolean mask"):
+        perturbation_shift(fs, 1, region[:-1], 4.0)
+    region[OUTER] = True
+    with pytest.raises(RingprintError, match="overlaps a part"):
+        perturbation_shift(fs, 1, region, 4.0)
+    region = np.zeros(fs.shape, bool)
+    region[0, 0, 0] = True
+    with pytest.raises(RingprintError, match="normal"):
+        perturbation_shift(fs, 1, region, 4.0, normal=(0, 0, 0))
+    with pytest.raises(RingprintError, match="imaginary part"):
+        perturbation_shift(fs, 1, region, 4.0 - 1j)
+    with pytest.raises(RingprintError, match="n must be"):
+        worst_spots(touch_map(fs, 1, tissue=4.0, pad_radius_m=0.0), n=0)
+    with pytest.raises(RingprintError, match="Q"):
+        q_after(-1e-3, 0.0)
