@@ -32,18 +32,23 @@ def _value(v) -> str:
     return str(v)
 
 
-def write_case(folder, name, parts, spectrum, grid=None, analysis=None, probe=None) -> Path:
+def write_case(folder, name, parts, spectrum, grid=None, analysis=None, probe=None, bands=()) -> Path:
     """Write ``<folder>/<name>.toml`` (units mm).
 
     ``parts`` is a list of ``(part_name, stl_file_name, material)`` where material is
     ``"pec"`` or an inline TOML table as text, e.g. ``"{ eps_r = 36.0 }"``. ``spectrum``,
     ``grid``, ``analysis``, ``probe`` are dicts of keys written as they are (strings
-    quoted, numbers and lists as TOML).
+    quoted, numbers and lists as TOML). ``bands`` lists ``(name, low, high)`` custom
+    bands (frequencies as text, e.g. "2.4 GHz"). A ``parts`` entry may carry a fourth
+    item, the part's priority.
     """
     lines = [f'title = "{name}"', 'units = "mm"', "", "[spectrum]"]
     lines += [f"{k} = {_value(v)}" for k, v in spectrum.items()]
-    for part, file, material in parts:
+    for part, file, material, *priority in parts:
         lines += ["", "[[part]]", f'name = "{part}"', f'file = "{file}"', f"material = {_value(material)}"]
+        lines += [f"priority = {p}" for p in priority]
+    for band, low, high in bands:
+        lines += ["", "[[band]]", f'name = "{band}"', f'low = "{low}"', f'high = "{high}"']
     for table, values in (("grid", grid), ("analysis", analysis), ("probe", probe)):
         if values:
             lines += ["", f"[{table}]"] + [f"{k} = {_value(v)}" for k, v in values.items()]
@@ -52,10 +57,14 @@ def write_case(folder, name, parts, spectrum, grid=None, analysis=None, probe=No
     return path
 
 
-def run(case_path, out_name="out") -> dict:
-    """Run the case end to end (no progress bar, no echo); the modes.json summary."""
+def run(case_path, out_name="out", fields=False) -> dict:
+    """Run the case end to end (no progress bar, no echo); the modes.json summary.
+
+    Mode fields are off unless asked for: the frequency checks do not need the
+    second pass, and it would double their time.
+    """
     case_path = Path(case_path)
-    return run_case(case_path, case_path.parent / out_name, progress=False, echo=None)
+    return run_case(case_path, case_path.parent / out_name, progress=False, echo=None, fields=fields)
 
 
 def nearest_mode(summary, f_ref: float) -> dict:
