@@ -40,13 +40,19 @@ when absent, and ``"bands"`` -- the band list -- when absent)::
                         edge / frequency, negative inside; see ringprint.analysis.bands),
                         optional "overlap": float 0..1}, ...],
              "participation": {part name: fraction of the mode's energy in that
-                               part, 0..1},
+                               part and its shell, 0..1} (empty without fields),
              optional: "q_over_chu": float (default q / q_chu), "confidence": str
              (e.g. "high"/"low") or float, "phase_rad": float, any other scalar keys
-             (they become extra CSV columns).
+             (they become extra CSV columns); with mode fields
+             (ringprint.analysis.field_stage): "rings_in": part name or None,
+             "participation_detail": {part: {"electric_inside", "electric_near",
+             "magnetic_inside", "magnetic_near": fractions, "surface_current":
+             fraction or None}}, "touch": {"tissue": str, "worst": [{"point_m",
+             "normal", "shift_percent", "q_after", "q_drop_percent"}, ...]}.
     optional:
     "hazards": [{"mode": int (mode index), "band": str, "status": "inside"|"near",
-                 "distance_percent": float, "rank": int >= 1 (1 = worst, unique)}, ...];
+                 "distance_percent": float, "rank": int >= 1 (1 = worst, unique),
+                 optional "part": the part that carries the mode}, ...];
                when absent the writers rank the modes' inside/near entries
                (:func:`~ringprint.analysis.results.hazards_from_modes`).
     "run": {"steps": int, "dt_s": float, "wall_time_s": float, "memory_bytes": int,
@@ -185,8 +191,14 @@ def _run_facts(summary: Mapping) -> list[tuple[str, str]]:
 
 
 def _participation_text(mode: Mapping, top: int = 3) -> str:
+    """``"ground plane (carries it); housing 27 %, ground plane 17 %"``: the part that
+    carries the mode (``rings_in``, when known) and the largest energy shares."""
     shares = sorted(mode["participation"].items(), key=lambda kv: -kv[1])[:top]
-    return ", ".join(f"{part} {format_percent(100.0 * share)}" for part, share in shares) or "-"
+    text = ", ".join(f"{part} {format_percent(100.0 * share)}" for part, share in shares)
+    carrier = mode.get("rings_in")
+    if carrier:
+        text = f"{carrier} (carries it)" + (f"; {text}" if text else "")
+    return text or "-"
 
 
 def _bands_text(mode: Mapping) -> str:

@@ -367,8 +367,13 @@ def format_summary_table(summary: Mapping) -> str:
     header = ["mode", "frequency", "Q", "Q/Q_Chu", "error", "bands hit"]
     rows = [[str(m["index"]), format_frequency(m["frequency_hz"], m["error"]), format_q(m["q"]),
              format_q(q_over_chu(m)), format_error(m["error"]), _bands_hit(m)] for m in modes]
-    widths = [max(len(r[c]) for r in rows + [header]) for c in range(len(header))]
     right = [True, True, True, True, True, False]
+    if any("rings_in" in m for m in modes):
+        header.append("rings in")
+        right.append(False)
+        for r, m in zip(rows, modes):
+            r.append(m.get("rings_in") or "(air)")
+    widths = [max(len(r[c]) for r in rows + [header]) for c in range(len(header))]
 
     def line(cells):
         parts = [c.rjust(w) if r else c.ljust(w) for c, w, r in zip(cells, widths, right)]
