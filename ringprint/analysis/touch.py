@@ -14,7 +14,7 @@ lattice itself (``eps = eps0 eps_r``), so it is 4 J for normalized fields.
 Local field. The tissue is a thin pad pressed on a surface with unit normal ``n``.
 Across a thin flat layer the tangential E is continuous and so is the normal D, so
 inside it ``E_in = E_t + E_n / eps_t`` (the depolarization of a thin plate: factor 1
-along its normal, 0 along it). Then ``E0* . E_in = |E0|^2 - (1 - 1/eps_t) |n . E0|^2``.
+along its normal, 0 in its plane). Then ``E0* . E_in = |E0|^2 - (1 - 1/eps_t) |n . E0|^2``.
 Without this correction a high-permittivity tissue on a conductor, where E is normal,
 would be overestimated by about ``|eps_t|`` (about 40 for skin). With ``normal=None``
 the uncorrected ``E_in = E0`` is used (right for a slab along E, or a low contrast).
@@ -30,6 +30,25 @@ A lossy tissue has ``Im eps_t > 0``, hence ``Im delta < 0`` and ``1/Q' > 1/Q``: 
 touch adds its own loss ``1/Q_t = -2 Im delta`` (losses add as ``1/Q``; Pozar 2012,
 sec. 6.7). The frequency shift reported is ``100 (w_r' / w_r - 1)`` percent.
 
+Limits (measured against exact slab-loaded cavities in
+tests/validation/test_touch_perturbation.py). First order drops terms of the size of
+the shift itself, and the local field above is the quasi-static one of a pad thin
+against the wavelength *inside the tissue*. For a pad of thickness t on a conductor
+where E is normal, the normal field inside is not uniform: it grows away from the
+metal as in a short-circuited line, ``E_n(u) ~ E0_n/eps_t + (t^2 - u^2) k0^2 E0_n / 2``
+(u the height above the metal; the wave equation in the pad with dE_n/du = 0 on the
+metal), so the shift comes out too small by a factor of about
+``1 + |eps_t| (k0 t)^2 / 3`` and the added loss ``1/Q_t`` by about
+``1 + |eps_t|^2 (k0 t)^2 / 3``, because the quasi-static loss
+``eps'' |E_n|^2 / |eps_t|^2`` is tiny. The model holds when ``sqrt(|eps_t|) k0 t << 1``.
+For skin (``|eps_t|`` about 45) that is t below about 1 mm at 2.4 GHz or 2 mm at 1 GHz.
+With the default 5 mm pad on a metal, the first factor is about 1.15 at 1 GHz and 2 at
+2.5 GHz, and the Q drop comes out several times too small. Where E is tangential to the
+surface (a plastic housing) the shift error is about ``(eps_t - 1) (k0 t)^2 / 3`` and the
+loss follows the quasi-static field. So read the map as a ranking of spots and a lower
+bound on the detuning. For the size of the effect, run the full-wave model with the
+tissue in place.
+
 The map (:func:`touch_map`). Touch points are the exterior air nodes next to the solid
 (exterior: air connected to the lattice boundary, so air sealed inside a part is never
 touched). Each point's outward normal is minus the gradient of the solid indicator
@@ -44,8 +63,10 @@ convolved with the ball (FFT) and combined with each point's normal.
 from __future__ import annotations
 
 import numbers
+import os
 
 import numpy as np
+import scipy.fft
 from scipy import ndimage, signal
 
 from ringprint.analysis.fieldset import FieldSet, ModeField, TouchMap
@@ -85,7 +106,8 @@ def _eps_tissue(tissue, frequency_hz: float) -> complex:
     try:
         eps = complex(tissue)
     except (TypeError, ValueError):
-        raise RingprintError(f"tissue must be a tissue name or a complex permittivity, got {tissue!r}") from None
+        raise RingprintError(f"tissue must be a tissue name or a complex permittivity, "
+                             f"got {tissue!r}") from None
     if not (np.isfinite(eps.real) and np.isfinite(eps.imag) and eps.real >= 1.0 and eps.imag >= 0):
         raise RingprintError(f"tissue permittivity {eps} must have real part >= 1 and imaginary part "
                              f">= 0 (loss, exp(-i w t) convention)")
@@ -227,6 +249,9 @@ def touch_points(fs: FieldSet, exterior: np.ndarray | None = None):
     solid = _solid(fs)
     ext = exterior_air(fs) if exterior is None else exterior
     idx = np.argwhere(ext & ndimage.binary_dilation(solid))
+    if idx.shape[0] == 0:
+        raise RingprintError("no outside air node touches a part, so nothing can be touched; "
+                             "leave air around the parts")
     smooth = ndimage.gaussian_filter(solid.astype(np.float32), sigma=1.0, mode="nearest")
     grad = np.empty((idx.shape[0], 3))
     counts = np.zeros((idx.shape[0], 3))
@@ -275,7 +300,8 @@ def _shifts(fs: FieldSet, m: ModeField, surf: _Surface, eps_t: complex) -> np.nd
     e = m.e[(slice(None), *surf.box)].astype(complex)
     ext = surf.exterior[surf.box]
     products = np.stack([np.where(ext, (e[a] * np.conj(e[b])).real, 0.0) for a, b in _PAIRS])
-    pads = signal.fftconvolve(products, surf.kernel[None], mode="same", axes=(1, 2, 3))
+    with scipy.fft.set_workers(os.cpu_count() or 1):
+        pads = signal.fftconvolve(products, surf.kernel[None], mode="same", axes=(1, 2, 3))
     at = pads[(slice(None), *surf.local)]          # (6, m)
     n = surf.normals.T
     total = at[0] + at[1] + at[2]
@@ -285,8 +311,14 @@ def _shifts(fs: FieldSet, m: ModeField, surf: _Surface, eps_t: complex) -> np.nd
     return -EPS0 * (eps_t - 1.0) * s * fs.cell_volume / _energy4(fs, m)
 
 
-def touch_map(fs: FieldSet, mode, tissue="skin_dry", pad_radius_m: float = DEFAULT_PAD_RADIUS_M,
-              _surface: _Surface | None = None) -> TouchMap:
+def _map(fs: FieldSet, mode, tissue, surf: _Surface) -> TouchMap:
+    m = _mode(fs, mode)
+    delta = _shifts(fs, m, surf, _eps_tissue(tissue, m.frequency_hz))
+    return TouchMap(points=surf.points.copy(), normals=surf.normals.copy(),
+                    shift_percent=shift_percent(delta, m.q), q_after=q_after(delta, m.q))
+
+
+def touch_map(fs: FieldSet, mode, tissue="skin_dry", pad_radius_m: float = DEFAULT_PAD_RADIUS_M) -> TouchMap:
     """Predicted detuning of one mode by a fingertip at every touch point of the outer surface.
 
     Parameters
@@ -318,17 +350,14 @@ def touch_map(fs: FieldSet, mode, tissue="skin_dry", pad_radius_m: float = DEFAU
     tangential E and normal D.
     """
     m = _mode(fs, mode)
-    eps_t = _eps_tissue(tissue, m.frequency_hz)
-    surf = _surface if _surface is not None else _Surface(fs, pad_radius_m)
-    delta = _shifts(fs, m, surf, eps_t)
-    return TouchMap(points=surf.points.copy(), normals=surf.normals.copy(),
-                    shift_percent=shift_percent(delta, m.q), q_after=q_after(delta, m.q))
+    _eps_tissue(tissue, m.frequency_hz)          # refuse a bad tissue before the geometry work
+    return _map(fs, m, tissue, _Surface(fs, pad_radius_m))
 
 
 def touch_maps(fs: FieldSet, tissue="skin_dry", pad_radius_m: float = DEFAULT_PAD_RADIUS_M) -> dict:
     """:func:`touch_map` for every mode of ``fs``: ``{mode index: TouchMap}`` (surface found once)."""
     surf = _Surface(fs, pad_radius_m)
-    return {m.index: touch_map(fs, m, tissue, pad_radius_m, _surface=surf) for m in fs.modes}
+    return {m.index: _map(fs, m, tissue, surf) for m in fs.modes}
 
 
 def worst_spots(tmap: TouchMap, n: int = 5, min_separation_m: float = 0.01,
