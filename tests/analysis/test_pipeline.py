@@ -148,3 +148,44 @@ def test_output_directory_that_is_a_file(tmp_path, capsys):
     code = cli.main(["run", str(case), "--out", str(target), "--quiet"])
     assert code == 1 and "ringprint: error:" in capsys.readouterr().err
     assert target.read_text() == "keep me"
+
+
+def test_mode_fields_are_written_and_the_strip_carries_its_mode(strip_run):
+    """With fields on (the default): fields.h5, one mode_NN.vti per mode, participation
+    naming the strip, touch spots, and the hazard naming the part."""
+    from ringprint.analysis.fieldset_io import read_fieldset
+
+    _case_path, out, summary = strip_run
+    assert summary["results_layout"] == 2 and summary["fields"]["file"] == "fields.h5"
+    fs = read_fieldset(out / "fields.h5")
+    assert [m.index for m in fs.modes] == [m["index"] for m in summary["modes"]]
+    for m in summary["modes"]:
+        assert (out / f"mode_{m['index']:02d}.vti").is_file()
+        assert set(m["participation"]) == {"strip"}
+        assert m["touch"]["worst"] and all(s["shift_percent"] <= 0 for s in m["touch"]["worst"])
+    half_wave = min(summary["modes"], key=lambda m: abs(m["frequency_hz"] - C0 / (2 * LENGTH_MM * 1e-3)))
+    assert half_wave["rings_in"] == "strip"
+    assert all(h["part"] == "strip" for h in summary["hazards"] if h["mode"] == half_wave["index"])
+
+
+def test_no_fields_skips_them_and_clears_stale_field_files(strip_run, tmp_path, capsys):
+    import shutil
+
+    case, out, _summary = strip_run
+    copy = tmp_path / "again"
+    shutil.copytree(out, copy)
+    assert (copy / "fields.h5").is_file()
+    code = cli.main(["run", str(case), "--out", str(copy), "--no-fields", "--quiet"])
+    assert code == 0, capsys.readouterr().err
+    summary = json.loads((copy / "modes.json").read_text())
+    assert summary["fields"] is None and not (copy / "fields.h5").exists()
+    assert not list(copy.glob("mode_*.vti"))
+    assert all(m["participation"] == {} for m in summary["modes"])
+
+
+def test_field_memory_too_small_is_refused_before_stepping(tmp_path, capsys):
+    case = _case(tmp_path, extra="[output]\nfield_memory = 0.001\n")
+    code = cli.main(["run", str(case), "--out", str(tmp_path / "o"), "--quiet"])
+    err = capsys.readouterr().err.strip().splitlines()
+    assert code == 1 and len(err) == 1 and "output.field_memory" in err[0], err
+    assert not (tmp_path / "o" / "modes.json").exists() and not (tmp_path / "o" / "checkpoint.h5").exists()
