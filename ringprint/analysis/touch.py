@@ -283,6 +283,8 @@ class _Surface:
     def __init__(self, fs: FieldSet, pad_radius_m: float):
         if not (isinstance(pad_radius_m, numbers.Real) and np.isfinite(pad_radius_m) and pad_radius_m >= 0):
             raise RingprintError(f"pad_radius_m must be a length >= 0 in metres, got {pad_radius_m!r}")
+        if not fs.spacing > 0:
+            raise RingprintError("the lattice needs at least two nodes along x to know its spacing")
         self.exterior = exterior_air(fs)
         self.index, self.normals = touch_points(fs, self.exterior)
         self.kernel = _ball(pad_radius_m / fs.spacing)
@@ -376,13 +378,14 @@ def worst_spots(tmap: TouchMap, n: int = 5, min_separation_m: float = 0.01,
         raise RingprintError(f"min_separation_m must be a length >= 0 in metres, got {min_separation_m!r}")
     if q_before is not None:
         q_before = _q_arg(q_before)
-    order = np.argsort(-np.abs(tmap.shift_percent), kind="stable")
+    size = np.abs(np.asarray(tmap.shift_percent, dtype=float))
+    free = np.ones(size.shape, bool)
     taken: list[int] = []
-    for i in order:
-        if len(taken) == n:
-            break
-        if all(np.linalg.norm(tmap.points[i] - tmap.points[j]) >= min_separation_m for j in taken):
-            taken.append(int(i))
+    while len(taken) < n and free.any():
+        i = int(np.flatnonzero(free)[np.argmax(size[free])])
+        taken.append(i)
+        free &= np.linalg.norm(tmap.points - tmap.points[i], axis=1) >= min_separation_m
+        free[i] = False
     spots = []
     for i in taken:
         qa = float(tmap.q_after[i])
