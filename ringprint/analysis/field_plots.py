@@ -9,7 +9,7 @@ embed in the report (about 100-200 kB).
   its own line style as well as its own colour, so the picture reads in grey), the
   probe loop's outline, axes in mm.
 - :func:`touch_map_png` -- the predicted frequency shift at each touch point of the
-  outer surface, seen from above, the front and the side; the worst spots numbered.
+  outer surface, seen along the three axes; the worst spots numbered.
 
 :func:`field_quantity` gives the scalar that both pictures and the 3-D view
 (:mod:`ringprint.analysis.field_views`) show: ``"e"`` -> |E| (V/m), ``"h"`` ->
@@ -30,6 +30,7 @@ from ringprint.analysis.textformat import format_frequency, format_q
 from ringprint.errors import RingprintError
 
 __all__ = ["QUANTITIES", "field_quantity", "resolve_mode", "peak_node", "probe_corners",
+           "flat_axis", "region_of_interest",
            "mode_title", "spot_points", "field_picture_png", "touch_map_png",
            "PART_COLOURS"]
 
@@ -152,22 +153,57 @@ def _png(fig) -> bytes:
 
 
 def _colour_bar(fig, mappable, axs, label: str) -> None:
-    bar = fig.colorbar(mappable, ax=list(axs), fraction=0.025, pad=0.01)
+    bar = fig.colorbar(mappable, ax=list(axs), fraction=0.03, pad=0.01)
     bar.set_label(label, fontsize=8)
     bar.formatter.set_powerlimits((-2, 3))
     bar.ax.tick_params(labelsize=7)
 
 
-def _slice_planes(fs: FieldSet, peak):
-    """(title, horizontal axis, vertical axis, index tuple) of the three planes through
-    the lattice node ``peak``."""
-    i, j, k = peak
-    every = slice(None)
-    return [
-        (f"z = {1e3 * fs.z[k]:.3g} mm", 0, 1, (every, every, k)),
-        (f"y = {1e3 * fs.y[j]:.3g} mm", 0, 2, (every, j, every)),
-        (f"x = {1e3 * fs.x[i]:.3g} mm", 1, 2, (i, every, every)),
-    ]
+def flat_axis(fs: FieldSet) -> int:
+    """Axis (0, 1, 2 for x, y, z) of the lattice's shortest side -- the flat direction
+    of most devices; z wins ties, then y."""
+    lengths = [a[-1] - a[0] for a in (fs.x, fs.y, fs.z)]
+    return min((2, 1, 0), key=lambda a: lengths[a])
+
+
+def region_of_interest(fs: FieldSet, keep=()) -> tuple[slice, slice, slice]:
+    """Index ranges of the lattice around the parts: their bounding box grown by 15 %
+    of its size (at least 2 nodes) on each side, and holding every node in ``keep``
+    (e.g. the field's peak); the whole lattice when there are no parts."""
+    solid = fs.solid()
+    if not solid.any():
+        return (slice(None),) * 3
+    nodes = np.argwhere(solid)
+    lo, hi = nodes.min(axis=0), nodes.max(axis=0)
+    for node in keep:
+        lo, hi = np.minimum(lo, node), np.maximum(hi, node)
+    grow = np.maximum(2, np.ceil(0.15 * (hi - lo)).astype(int))
+    lo = np.maximum(lo - grow, 0)
+    hi = np.minimum(hi + grow, np.array(fs.shape) - 1)
+    return tuple(slice(int(a), int(b) + 1) for a, b in zip(lo, hi))
+
+
+def _three_panels(fig, first: int):
+    """One large panel (looking along axis ``first``) on the left, two on the right;
+    returns [(axes, view axis)] in that order."""
+    mosaic = fig.subplot_mosaic([["a", "b"], ["a", "c"]], width_ratios=[1.0, 1.15])
+    order = [first] + [a for a in (2, 1, 0) if a != first]
+    return [(mosaic[key], axis) for key, axis in zip("abc", order)]
+
+
+def _plane(view: int) -> tuple[int, int]:
+    """(horizontal, vertical) axes of the picture looking along ``view``."""
+    return {0: (1, 2), 1: (0, 2), 2: (0, 1)}[view]
+
+
+def _label_axes(ax, h: int, v: int, title: str) -> None:
+    # the panel's name inside it: titles above short, wide panels collide with the
+    # axis label of the panel above
+    ax.text(0.01, 0.98, title, transform=ax.transAxes, ha="left", va="top", fontsize=8,
+            bbox={"boxstyle": "round,pad=0.2", "fc": "white", "ec": "none", "alpha": 0.85})
+    ax.set_xlabel(f"{_AXES[h]} (mm)", fontsize=8)
+    ax.set_ylabel(f"{_AXES[v]} (mm)", fontsize=8)
+    ax.tick_params(labelsize=7)
 
 
 def _part_handles(fs: FieldSet):
@@ -183,6 +219,9 @@ def _part_handles(fs: FieldSet):
 def field_picture_png(fs: FieldSet, mode, quantity: str = "energy") -> bytes:
     """Three orthogonal slices of one mode's field through its peak, as PNG bytes.
 
+    The large panel looks along the lattice's shortest side (:func:`flat_axis`);
+    every panel shows the region around the parts (:func:`region_of_interest`).
+
     Parameters
     ----------
     fs : FieldSet
@@ -194,7 +233,7 @@ def field_picture_png(fs: FieldSet, mode, quantity: str = "energy") -> bytes:
     Returns
     -------
     bytes
-        A PNG image (about 1000 x 380 pixels).
+        A PNG image (1000 x 460 pixels).
 
     References
     ----------
@@ -212,43 +251,43 @@ def field_picture_png(fs: FieldSet, mode, quantity: str = "energy") -> bytes:
     values, label = field_quantity(fs, m, quantity)
     peak = peak_node(values)
     top = float(values.max()) or 1.0
+    roi = region_of_interest(fs, keep=[peak])
+    axes = [1e3 * a[r] for a, r in zip((fs.x, fs.y, fs.z), roi)]      # mm
+    local = [p - (r.start or 0) for p, r in zip(peak, roi)]
+    values = values[roi]
+    masks = [mask[roi] for mask in fs.parts.values()]
     corners = probe_corners(fs.probe)
     handles = _part_handles(fs)
-    axes = (fs.x, fs.y, fs.z)
-    fig = Figure(figsize=(10.0, 3.8), layout="constrained")
-    axs = fig.subplots(1, 3)
     halo = [patheffects.withStroke(linewidth=3.2, foreground="white")]
+    fig = Figure(figsize=(10.0, 4.6), layout="constrained")
+    panels = _three_panels(fig, flat_axis(fs))
     image = None
-    for ax, (name, h, v, cut) in zip(axs, _slice_planes(fs, peak)):
-        plane = values[cut]
-        ext = [1e3 * axes[h][0], 1e3 * axes[h][-1], 1e3 * axes[v][0], 1e3 * axes[v][-1]]
-        image = ax.imshow(plane.T, origin="lower", extent=ext, cmap="cividis", vmin=0.0,
+    for ax, normal in panels:
+        h, v = _plane(normal)
+        cut = tuple(local[a] if a == normal else slice(None) for a in range(3))
+        ext = [axes[h][0], axes[h][-1], axes[v][0], axes[v][-1]]
+        image = ax.imshow(values[cut].T, origin="lower", extent=ext, cmap="cividis", vmin=0.0,
                           vmax=top, interpolation="bilinear", aspect="equal")
-        hh, vv = 1e3 * axes[h], 1e3 * axes[v]
-        for (pname, colour, style, _), mask in zip(handles, fs.parts.values()):
+        for (_, colour, style, _), mask in zip(handles, masks):
             cut_mask = mask[cut].astype(float)
             if 0 < cut_mask.sum() < cut_mask.size and min(cut_mask.shape) > 1:
-                lines = ax.contour(hh, vv, cut_mask.T, levels=[0.5], colors=[colour],
+                lines = ax.contour(axes[h], axes[v], cut_mask.T, levels=[0.5], colors=[colour],
                                    linestyles=[style], linewidths=1.6)
                 lines.set_path_effects(halo)
-        ax.plot(1e3 * axes[h][peak[h]], 1e3 * axes[v][peak[v]], marker="+", color="white",
-                markersize=10, mew=2)
+        ax.plot(axes[h][local[h]], axes[v][local[v]], marker="+", color="white", ms=10, mew=2)
         if corners is not None:
-            loop = np.vstack([corners, corners[:1]])
-            ax.plot(1e3 * loop[:, h], 1e3 * loop[:, v], color="white", lw=2.6)
-            ax.plot(1e3 * loop[:, h], 1e3 * loop[:, v], color="black", lw=1.2)
-        ax.set_title(name, fontsize=9)
-        ax.set_xlabel(f"{_AXES[h]} (mm)", fontsize=8)
-        ax.set_ylabel(f"{_AXES[v]} (mm)", fontsize=8)
-        ax.tick_params(labelsize=7)
-    _colour_bar(fig, image, axs, label)
+            loop = 1e3 * np.vstack([corners, corners[:1]])
+            ax.plot(loop[:, h], loop[:, v], color="white", lw=2.6)
+            ax.plot(loop[:, h], loop[:, v], color="black", lw=1.2)
+        _label_axes(ax, h, v, f"{_AXES[normal]} = {axes[normal][local[normal]]:.3g} mm")
+    _colour_bar(fig, image, [ax for ax, _ in panels], label)
     legend = [hd for *_, hd in handles]
     names = [name for name, *_ in handles]
     legend.append(Line2D([], [], color="white", marker="+", lw=0, mew=2, markeredgecolor="black"))
     names.append("peak")
     if corners is not None:
         legend.append(Line2D([], [], color="black", lw=1.2))
-        names.append("probe loop")
+        names.append("probe loop (projected)")
     fig.legend(legend, names, loc="outside lower center", ncol=min(len(names), 6), fontsize=8,
                frameon=False)
     fig.suptitle(mode_title(m), fontsize=11)
@@ -269,9 +308,10 @@ def _check_touch(tmap: TouchMap) -> tuple[np.ndarray, np.ndarray]:
 
 
 def touch_map_png(fs: FieldSet, tmap: TouchMap, worst_spots=None, mode=None) -> bytes:
-    """The touch map seen from above, the front and the side, as PNG bytes.
+    """The touch map seen along the three axes, as PNG bytes.
 
-    Each touch point is coloured by its predicted frequency shift (%); points with a
+    The large panel looks along the lattice's shortest side (:func:`flat_axis`; from
+    above for a flat device). Each touch point is coloured by its predicted frequency shift (%); points with a
     larger |shift| are drawn over the others. The outline of all parts together is
     drawn in grey for orientation, and the worst spots carry their rank numbers.
 
@@ -289,7 +329,7 @@ def touch_map_png(fs: FieldSet, tmap: TouchMap, worst_spots=None, mode=None) -> 
     Returns
     -------
     bytes
-        A PNG image (about 1000 x 380 pixels).
+        A PNG image (1000 x 460 pixels).
 
     References
     ----------
@@ -312,17 +352,17 @@ def touch_map_png(fs: FieldSet, tmap: TouchMap, worst_spots=None, mode=None) -> 
     norm = Normalize(vmin=lo, vmax=hi)
     order = np.argsort(np.abs(shift), kind="stable")  # the worst drawn last, on top
     solid = fs.solid()
-    axes = (fs.x, fs.y, fs.z)
-    fig = Figure(figsize=(10.0, 3.8), layout="constrained")
-    axs = fig.subplots(1, 3)
+    axes = (1e3 * fs.x, 1e3 * fs.y, 1e3 * fs.z)
+    span_lo, span_hi = 1e3 * points.min(axis=0), 1e3 * points.max(axis=0)
+    pad = 0.08 * (span_hi - span_lo).max() + 1.0
+    fig = Figure(figsize=(10.0, 4.6), layout="constrained")
+    panels = _three_panels(fig, flat_axis(fs))
     sc = None
-    for ax, (name, h, v) in zip(axs, (("from above", 0, 1), ("from the front", 0, 2),
-                                      ("from the side", 1, 2))):
-        depth = 3 - h - v
-        shadow = solid.any(axis=depth).astype(float)
+    for ax, view in panels:
+        h, v = _plane(view)
+        shadow = solid.any(axis=view).astype(float)
         if 0 < shadow.sum() < shadow.size and min(shadow.shape) > 1:
-            ax.contour(1e3 * axes[h], 1e3 * axes[v], shadow.T, levels=[0.5], colors=["0.6"],
-                       linewidths=1.0)
+            ax.contour(axes[h], axes[v], shadow.T, levels=[0.5], colors=["0.6"], linewidths=1.0)
         sc = ax.scatter(1e3 * points[order, h], 1e3 * points[order, v], c=shift[order],
                         cmap="cividis", norm=norm, s=14, edgecolors="none")
         for rank, spot in enumerate(spots, start=1):
@@ -331,12 +371,11 @@ def touch_map_png(fs: FieldSet, tmap: TouchMap, worst_spots=None, mode=None) -> 
             ax.annotate(str(rank), (px, py), xytext=(5, 5), textcoords="offset points", fontsize=8,
                         fontweight="bold", color="black",
                         bbox={"boxstyle": "round,pad=0.1", "fc": "white", "ec": "none", "alpha": 0.8})
-        ax.set_aspect("equal", adjustable="datalim")
-        ax.set_title(name, fontsize=9)
-        ax.set_xlabel(f"{_AXES[h]} (mm)", fontsize=8)
-        ax.set_ylabel(f"{_AXES[v]} (mm)", fontsize=8)
-        ax.tick_params(labelsize=7)
-    _colour_bar(fig, sc, axs, "frequency shift (%)")
+        ax.set_xlim(span_lo[h] - pad, span_hi[h] + pad)
+        ax.set_ylim(span_lo[v] - pad, span_hi[v] + pad)
+        ax.set_aspect("equal", adjustable="box")
+        _label_axes(ax, h, v, f"seen along {_AXES[view]}")
+    _colour_bar(fig, sc, [ax for ax, _ in panels], "frequency shift (%)")
     title = "touch map: predicted shift when a fingertip touches"
     if mode is not None:
         title = f"{mode_title(resolve_mode(fs, mode))} - {title}"

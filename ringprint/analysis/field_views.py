@@ -10,9 +10,13 @@ The scene (:func:`build_scene`) holds
   density, :func:`~ringprint.analysis.field_plots.field_quantity`) as two
   isosurfaces at 30 % and 60 % of its maximum, and one slice through the node of
   the maximum, normal to the lattice's shortest side (the flat direction of most
-  devices); viridis, with a labelled colour bar (e.g. "|E| (V/m), 1 J stored");
+  devices, :func:`~ringprint.analysis.field_plots.flat_axis`); viridis, with a labelled colour bar (e.g. "|E| (V/m), 1 J stored");
 - the probe loop as a small black square (from ``fs.probe``);
 - the title "mode N, f, Q".
+
+Only the region around the parts is drawn
+(:func:`~ringprint.analysis.field_plots.region_of_interest`), not the air padding
+and absorbing layer around them.
 
 :func:`render_png` draws it off screen (no display needed) and returns PNG bytes;
 :func:`show` opens an interactive window. VTK's own warnings (e.g. about a missing X
@@ -28,19 +32,23 @@ import sys
 
 import numpy as np
 
-from ringprint.analysis.field_plots import (PART_COLOURS, field_quantity, mode_title, peak_node,
-                                            probe_corners, resolve_mode)
+from ringprint.analysis.field_plots import (PART_COLOURS, field_quantity, flat_axis, mode_title,
+                                            peak_node, probe_corners, region_of_interest,
+                                            resolve_mode)
 from ringprint.analysis.fieldset import FieldSet
 from ringprint.analysis.outputs import atomic_write_bytes
 from ringprint.errors import RingprintError
 
-__all__ = ["ISO_LEVELS", "build_scene", "render_png", "show", "display_available", "slice_normal"]
+__all__ = ["ISO_LEVELS", "build_scene", "render_png", "show", "display_available"]
 
 #: Isosurface levels as fractions of the field's maximum.
 ISO_LEVELS = (0.3, 0.6)
 #: Opacity of part surfaces: conductors, other parts.
 CONDUCTOR_OPACITY, PART_OPACITY = 0.45, 0.2
 PROBE_COLOUR = "black"
+#: Opacity of the slice against the field value (0 to the maximum): weak field fades
+#: out, so the slice does not hide the parts behind it.
+SLICE_OPACITY = (0.15, 0.6, 0.9, 0.95)
 
 
 def display_available() -> bool:
@@ -66,12 +74,6 @@ def quiet_vtk():
         vtk.vtkObject.SetGlobalWarningDisplay(was)
 
 
-def slice_normal(fs: FieldSet) -> str:
-    """Axis ("x", "y" or "z") of the lattice's shortest side; "z" wins ties, then "y"."""
-    lengths = [fs.x[-1] - fs.x[0], fs.y[-1] - fs.y[0], fs.z[-1] - fs.z[0]]
-    return "xyz"[min((2, 1, 0), key=lambda a: lengths[a])]
-
-
 def _font_file() -> str:
     """A TrueType font with the glyphs VTK's built-in font lacks (a bar for |E|, m³)."""
     from matplotlib import font_manager
@@ -94,22 +96,25 @@ def _use_font(*properties) -> None:
         prop.SetFontFile(path)
 
 
-def _image(fs: FieldSet):
+def _image(fs: FieldSet, roi):
+    """An empty pyvista image over the lattice nodes ``roi`` (three index ranges)."""
     import pyvista as pv
 
-    if min(fs.shape) < 2:
+    axes = [a[r] for a, r in zip((fs.x, fs.y, fs.z), roi)]
+    shape = tuple(a.size for a in axes)
+    if min(shape) < 2:
         raise RingprintError(f"the field lattice is {fs.shape} nodes; a 3-D view needs at least 2 "
                              "nodes along each axis, run the case with a smaller decimation")
-    return pv.ImageData(dimensions=fs.shape, spacing=(fs.spacing,) * 3,
-                        origin=(float(fs.x[0]), float(fs.y[0]), float(fs.z[0])))
+    return pv.ImageData(dimensions=shape, spacing=(fs.spacing,) * 3,
+                        origin=tuple(float(a[0]) for a in axes))
 
 
-def _add_parts(plotter, fs: FieldSet, image) -> list:
+def _add_parts(plotter, fs: FieldSet, image, roi) -> list:
     """Part surfaces; returns the legend entries [label, colour]."""
     entries = []
     for n, (name, mask) in enumerate(fs.parts.items()):
         colour = PART_COLOURS[n % len(PART_COLOURS)]
-        image.point_data["mask"] = np.asarray(mask, np.float32).ravel(order="F")  # VTK: x fastest
+        image.point_data["mask"] = np.asarray(mask[roi], np.float32).ravel(order="F")  # x fastest
         surface = image.contour([0.5], scalars="mask")
         conductor = name in fs.conductors
         if surface.n_points:
@@ -120,11 +125,12 @@ def _add_parts(plotter, fs: FieldSet, image) -> list:
     return entries
 
 
-def _add_field(plotter, fs: FieldSet, image, values: np.ndarray, label: str) -> None:
+def _add_field(plotter, fs: FieldSet, image, roi, values: np.ndarray, label: str) -> None:
     top = float(values.max())
     if not top > 0:
         return  # a zero field: nothing to draw
-    image.point_data["field"] = values.ravel(order="F")
+    peak = peak_node(values)
+    image.point_data["field"] = values[roi].ravel(order="F")
     style = {"scalars": "field", "cmap": "viridis", "clim": (0.0, top)}
     bar = {"title": _vtk_text(label), "color": "black", "vertical": True, "position_x": 0.86,
            "position_y": 0.15, "height": 0.7, "title_font_size": 14, "label_font_size": 12,
@@ -132,10 +138,9 @@ def _add_field(plotter, fs: FieldSet, image, values: np.ndarray, label: str) -> 
     iso = image.contour([f * top for f in ISO_LEVELS], scalars="field")
     if iso.n_points:
         plotter.add_mesh(iso, opacity=0.5, smooth_shading=True, scalar_bar_args=bar, **style)
-    peak = peak_node(values)
     origin = (fs.x[peak[0]], fs.y[peak[1]], fs.z[peak[2]])
-    plane = image.slice(normal=slice_normal(fs), origin=origin)
-    plotter.add_mesh(plane, opacity=0.75, show_scalar_bar=not iso.n_points,
+    plane = image.slice(normal="xyz"[flat_axis(fs)], origin=origin)
+    plotter.add_mesh(plane, opacity=SLICE_OPACITY, show_scalar_bar=not iso.n_points,
                      scalar_bar_args=bar, **style)
 
 
@@ -193,11 +198,12 @@ def build_scene(fs: FieldSet, mode_index: int, quantity: str = "e", off_screen: 
 
     mode = resolve_mode(fs, mode_index)
     values, label = field_quantity(fs, mode, quantity)
-    image = _image(fs)
+    roi = region_of_interest(fs, keep=[peak_node(values)])
+    image = _image(fs, roi)
     plotter = pv.Plotter(off_screen=off_screen, window_size=[int(v) for v in window_size])
     plotter.set_background("white")
-    entries = _add_parts(plotter, fs, image)
-    _add_field(plotter, fs, image, values, label)
+    entries = _add_parts(plotter, fs, image, roi)
+    _add_field(plotter, fs, image, roi, values, label)
     entries += _add_probe(plotter, fs)
     if entries:
         _add_legend(plotter, entries)

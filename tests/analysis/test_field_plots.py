@@ -159,7 +159,7 @@ def test_probe_corners_make_a_square_in_its_plane():
 def test_field_picture_is_a_small_readable_png(fs, quantity):
     png = field_plots.field_picture_png(fs, fs.mode(2), quantity)
     img = decode(png)
-    assert img.shape[:2] == (380, 1000)
+    assert img.shape[:2] == (460, 1000)
     not_blank(img)
     # readable in grey: the luminance alone still spreads widely
     grey = img[..., :3] @ np.array([0.299, 0.587, 0.114])
@@ -187,3 +187,17 @@ def test_touch_map_refuses_bad_spots_and_empty_maps(fs):
     empty = TouchMap(np.zeros((0, 3)), np.zeros((0, 3)), np.zeros(0), np.zeros(0))
     with pytest.raises(RingprintError, match="no points"):
         field_plots.touch_map_png(fs, empty)
+
+
+def test_region_of_interest_is_the_parts_box_grown(fs):
+    """Battery nodes x 7-13, y 2-8, z 6-12 (1 mm lattice): grown by max(2, 15 % of 6)
+    = 2 nodes each side, clipped to the lattice (y starts at 0)."""
+    only = cavity_fieldset(1)
+    only.parts = {"battery": only.parts["battery"]}
+    assert field_plots.region_of_interest(only) == (slice(5, 16), slice(0, 11), slice(4, 15))
+    # a node to keep at x = 30 stretches the box to x 7-30, grown by ceil(0.15 * 23) = 4
+    roi = field_plots.region_of_interest(only, keep=[(30, 5, 10)])
+    assert roi == (slice(3, 31), slice(0, 11), slice(4, 15))
+    only.parts = {}
+    assert field_plots.region_of_interest(only) == (slice(None),) * 3
+    assert field_plots.flat_axis(fs) == 1   # b = 10 mm is the shortest side
