@@ -28,6 +28,8 @@ log = logging.getLogger("ringprint.run")
 TOUCH_TISSUE = "skin_dry"
 #: Worst touch spots listed per mode.
 WORST_SPOTS = 5
+#: Predicted touch shift (percent) beyond which first order is only a warning sign.
+FIRST_ORDER_LIMIT = 10.0
 
 
 def remove_stale(out_dir) -> None:
@@ -74,9 +76,16 @@ def run_field_stage(model, probe, ring, modes, hazards, out_dir, notes, progress
         fs.touch = touch.touch_maps(fs, tissue=TOUCH_TISSUE)
         for m in modes:
             tmap = fs.touch.get(m["index"])
-            if tmap is not None:
-                m["touch"] = {"tissue": TOUCH_TISSUE,
-                              "worst": touch.worst_spots(tmap, n=WORST_SPOTS)}
+            if tmap is None:
+                continue
+            worst = touch.worst_spots(tmap, n=WORST_SPOTS, q_before=m["q"])
+            m["touch"] = {"tissue": TOUCH_TISSUE, "pad_radius_m": touch.DEFAULT_PAD_RADIUS_M,
+                          "worst": worst}
+            m["touch_shift_percent"] = worst[0]["shift_percent"] if worst else 0.0
+            if worst and abs(worst[0]["shift_percent"]) > FIRST_ORDER_LIMIT:
+                notes.append(f"mode {m['index']}: a fingertip would pull it by about "
+                             f"{worst[0]['shift_percent']:.0f} % to first order, beyond the range "
+                             "where first order holds; read it as strongly touch-sensitive")
     write_fieldset(out_dir / FIELDS_NAME, fs)
     write_mode_vti(out_dir, fs)
     return fs

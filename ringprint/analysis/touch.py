@@ -11,13 +11,22 @@ with ``d_eps = eps0 (eps_t - 1)``, ``E0, H0`` the unperturbed mode and ``E_in`` 
 inside the tissue. The denominator is four times the stored energy, taken from the
 lattice itself (``eps = eps0 eps_r``), so it is 4 J for normalized fields.
 
-Local field. The tissue is a thin pad pressed on a surface with unit normal ``n``.
-Across a thin flat layer the tangential E is continuous and so is the normal D, so
-inside it ``E_in = E_t + E_n / eps_t`` (the depolarization of a thin plate: factor 1
-along its normal, 0 in its plane). Then ``E0* . E_in = |E0|^2 - (1 - 1/eps_t) |n . E0|^2``.
-Without this correction a high-permittivity tissue on a conductor, where E is normal,
-would be overestimated by about ``|eps_t|`` (about 40 for skin). With ``normal=None``
-the uncorrected ``E_in = E0`` is used (right for a slab along E, or a low contrast).
+Local field. Inside a small body of tissue in a slowly varying field the field along
+each principal axis of the body is ``E_in,a = E0_a / (1 + N_a (eps_t - 1))``, with
+``N_a`` its depolarization factors (exact for an ellipsoid, Stratton 1941 sec. 3.27;
+``N_x = (abc/3) R_D(b^2, c^2, a^2)`` with Carlson's elliptic integral R_D, and
+``sum N_a = 1``). For a pad pressed on a surface with unit normal ``n``, with factors
+``N_n`` along the normal and ``N_t`` in its plane,
+
+    E0* . E_in = L_t |E0|^2 + (L_n - L_t) |n . E0|^2,   L = 1 / (1 + N (eps_t - 1)).
+
+A thin flat pad has ``N_n = 1, N_t = 0`` (tangential E passes, normal D is
+continuous: ``E_in = E_t + E_n / eps_t``). The touch map's pad is the ball of tissue
+cut by the surface, a hemisphere on a flat face, taken as the spheroid of the same
+volume with semi-axes ``(R, R, R/2)``: ``N_n = 0.527, N_t = 0.236``
+(:data:`FINGERTIP_DEPOLARIZATION`). Without a local field at all, a high-permittivity
+tissue would be overestimated by up to ``|eps_t|`` (about 40 for skin) where E is
+normal, and by about ``1 + N_t |eps_t|`` (about 10) where it is tangential.
 
 Q after the touch. With ``omega = w_r - i gamma`` and ``Q = w_r / (2 gamma)``, the new
 ``omega' = omega (1 + delta)`` has ``w_r' = w_r (1 + Re delta) + gamma Im delta`` and
@@ -79,6 +88,40 @@ __all__ = ["DEFAULT_PAD_RADIUS_M", "exterior_air", "perturbation_shift", "q_afte
 
 #: Default pad radius (m): a fingertip contact about 10 mm across (common practice).
 DEFAULT_PAD_RADIUS_M = 5e-3
+#: Depolarization (along the normal, in the plane) of a thin flat pad.
+THIN_PAD_DEPOLARIZATION = (1.0, 0.0)
+
+
+def ellipsoid_depolarization(a: float, b: float, c: float) -> tuple[float, float, float]:
+    """Depolarization factors ``(N_a, N_b, N_c)`` of an ellipsoid with semi-axes a, b, c.
+
+    ``N_a = (abc/3) R_D(b^2, c^2, a^2)`` (Carlson's symmetric elliptic integral);
+    ``N_a + N_b + N_c = 1``, 1/3 each for a sphere.
+
+    References
+    ----------
+    Stratton, J. A., Electromagnetic Theory, McGraw-Hill, 1941, sec. 3.27; Carlson, B. C.,
+    Numer. Math. 33:1-16, 1979 (R_D).
+    """
+    from scipy.special import elliprd
+
+    axes = np.array([a, b, c], float)
+    if not np.all(np.isfinite(axes) & (axes > 0)):
+        raise RingprintError(f"ellipsoid semi-axes {a!r}, {b!r}, {c!r} must be lengths > 0")
+    abc = float(np.prod(axes))
+    return tuple(float(abc / 3.0 * elliprd(axes[(k + 1) % 3] ** 2, axes[(k + 2) % 3] ** 2, axes[k] ** 2))
+                 for k in range(3))
+
+
+#: Depolarization (along the normal, in the plane) of the touch pad: a hemisphere of
+#: tissue on a flat face, as the spheroid of equal volume with semi-axes (R, R, R/2).
+FINGERTIP_DEPOLARIZATION = (ellipsoid_depolarization(1.0, 1.0, 0.5)[2],
+                            ellipsoid_depolarization(1.0, 1.0, 0.5)[0])
+
+
+def local_factor(eps_t: complex, n_depol: float) -> complex:
+    """``E_in / E0 = 1 / (1 + N (eps_t - 1))`` along an axis of depolarization factor N."""
+    return 1.0 / (1.0 + n_depol * (eps_t - 1.0))
 
 _PAIRS = ((0, 0), (1, 1), (2, 2), (0, 1), (0, 2), (1, 2))
 
@@ -136,7 +179,8 @@ def _unit(normal) -> np.ndarray:
     return n / np.linalg.norm(n)
 
 
-def perturbation_shift(fs: FieldSet, mode, region, eps_tissue, normal=None) -> complex:
+def perturbation_shift(fs: FieldSet, mode, region, eps_tissue, normal=None,
+                       depolarization=None) -> complex:
     """Relative complex frequency shift when tissue fills the air nodes of ``region``.
 
     Parameters
@@ -152,8 +196,12 @@ def perturbation_shift(fs: FieldSet, mode, region, eps_tissue, normal=None) -> c
         tissue name from :data:`ringprint.analysis.tissue.TISSUES`, evaluated at the
         mode's frequency.
     normal : array_like of 3 floats, optional
-        Unit normal of the pad for the local-field correction ``E_in = E_t + E_n/eps_t``;
-        None uses ``E_in = E0``.
+        Unit normal of the pad; with it the local field uses ``depolarization`` as
+        ``(N_n, N_t)`` (default :data:`THIN_PAD_DEPOLARIZATION`, a thin pad:
+        ``E_in = E_t + E_n/eps_t``).
+    depolarization : float or (float, float), optional
+        Without ``normal``: one factor N for every axis (1/3: a sphere or, nearly, a
+        cube); None uses ``E_in = E0``. With ``normal``: ``(N_n, N_t)``.
 
     Returns
     -------
@@ -185,10 +233,32 @@ def perturbation_shift(fs: FieldSet, mode, region, eps_tissue, normal=None) -> c
     e = m.e[:, region].astype(complex)
     s = float(np.sum(np.abs(e) ** 2))
     if normal is not None:
+        n_n, n_t = THIN_PAD_DEPOLARIZATION if depolarization is None else _pair(depolarization)
         n = _unit(normal)
         en2 = float(np.sum(np.abs(np.einsum("c,cp->p", n, e)) ** 2))
-        s = s - (1.0 - 1.0 / eps_t) * en2
+        l_n, l_t = local_factor(eps_t, n_n), local_factor(eps_t, n_t)
+        s = l_t * s + (l_n - l_t) * en2
+    elif depolarization is not None:
+        s = local_factor(eps_t, _factor(depolarization)) * s
     return complex(-EPS0 * (eps_t - 1.0) * s * fs.cell_volume / _energy4(fs, m))
+
+
+def _factor(v) -> float:
+    try:
+        v = float(v)
+    except (TypeError, ValueError):
+        v = np.nan
+    if not 0.0 <= v <= 1.0:
+        raise RingprintError(f"a depolarization factor must lie in [0, 1], got {v!r}")
+    return v
+
+
+def _pair(v) -> tuple[float, float]:
+    try:
+        n_n, n_t = v
+    except (TypeError, ValueError):
+        raise RingprintError(f"with a normal, depolarization is (N_normal, N_tangential), got {v!r}") from None
+    return _factor(n_n), _factor(n_t)
 
 
 def _q_arg(q) -> float:
@@ -297,7 +367,8 @@ class _Surface:
                                 fs.z[self.index[:, 2]]], axis=1)
 
 
-def _shifts(fs: FieldSet, m: ModeField, surf: _Surface, eps_t: complex) -> np.ndarray:
+def _shifts(fs: FieldSet, m: ModeField, surf: _Surface, eps_t: complex,
+            depolarization=FINGERTIP_DEPOLARIZATION) -> np.ndarray:
     """``delta`` at every touch point (see the module docstring)."""
     e = m.e[(slice(None), *surf.box)].astype(complex)
     ext = surf.exterior[surf.box]
@@ -309,18 +380,20 @@ def _shifts(fs: FieldSet, m: ModeField, surf: _Surface, eps_t: complex) -> np.nd
     total = at[0] + at[1] + at[2]
     normal = (n[0] ** 2 * at[0] + n[1] ** 2 * at[1] + n[2] ** 2 * at[2]
               + 2.0 * (n[0] * n[1] * at[3] + n[0] * n[2] * at[4] + n[1] * n[2] * at[5]))
-    s = total - (1.0 - 1.0 / eps_t) * normal
+    l_n, l_t = (local_factor(eps_t, v) for v in depolarization)
+    s = l_t * total + (l_n - l_t) * normal
     return -EPS0 * (eps_t - 1.0) * s * fs.cell_volume / _energy4(fs, m)
 
 
-def _map(fs: FieldSet, mode, tissue, surf: _Surface) -> TouchMap:
+def _map(fs: FieldSet, mode, tissue, surf: _Surface, depolarization=FINGERTIP_DEPOLARIZATION) -> TouchMap:
     m = _mode(fs, mode)
-    delta = _shifts(fs, m, surf, _eps_tissue(tissue, m.frequency_hz))
+    delta = _shifts(fs, m, surf, _eps_tissue(tissue, m.frequency_hz), _pair(depolarization))
     return TouchMap(points=surf.points.copy(), normals=surf.normals.copy(),
                     shift_percent=shift_percent(delta, m.q), q_after=q_after(delta, m.q))
 
 
-def touch_map(fs: FieldSet, mode, tissue="skin_dry", pad_radius_m: float = DEFAULT_PAD_RADIUS_M) -> TouchMap:
+def touch_map(fs: FieldSet, mode, tissue="skin_dry", pad_radius_m: float = DEFAULT_PAD_RADIUS_M,
+              depolarization=FINGERTIP_DEPOLARIZATION) -> TouchMap:
     """Predicted detuning of one mode by a fingertip at every touch point of the outer surface.
 
     Parameters
@@ -334,6 +407,9 @@ def touch_map(fs: FieldSet, mode, tissue="skin_dry", pad_radius_m: float = DEFAU
     pad_radius_m : float
         Radius of the tissue ball centred on each touch point (m); at least the touch
         node itself is used when it is below one lattice spacing.
+    depolarization : (float, float)
+        ``(N_n, N_t)`` of the pad for its local field; default the pressed fingertip
+        (:data:`FINGERTIP_DEPOLARIZATION`), :data:`THIN_PAD_DEPOLARIZATION` for a thin pad.
 
     Returns
     -------
@@ -348,18 +424,19 @@ def touch_map(fs: FieldSet, mode, tissue="skin_dry", pad_radius_m: float = DEFAU
     References
     ----------
     Harrington, R. F., *Time-Harmonic Electromagnetic Fields*, McGraw-Hill, 1961,
-    sec. 7-2 (cavity perturbation); local field of a thin plate from the continuity of
-    tangential E and normal D.
+    sec. 7-2 (cavity perturbation); Stratton, J. A., *Electromagnetic Theory*, 1941,
+    sec. 3.27 (field inside an ellipsoid: the pad's local field).
     """
     m = _mode(fs, mode)
     _eps_tissue(tissue, m.frequency_hz)          # refuse a bad tissue before the geometry work
-    return _map(fs, m, tissue, _Surface(fs, pad_radius_m))
+    return _map(fs, m, tissue, _Surface(fs, pad_radius_m), depolarization)
 
 
-def touch_maps(fs: FieldSet, tissue="skin_dry", pad_radius_m: float = DEFAULT_PAD_RADIUS_M) -> dict:
+def touch_maps(fs: FieldSet, tissue="skin_dry", pad_radius_m: float = DEFAULT_PAD_RADIUS_M,
+               depolarization=FINGERTIP_DEPOLARIZATION) -> dict:
     """:func:`touch_map` for every mode of ``fs``: ``{mode index: TouchMap}`` (surface found once)."""
     surf = _Surface(fs, pad_radius_m)
-    return {m.index: _map(fs, m, tissue, surf) for m in fs.modes}
+    return {m.index: _map(fs, m, tissue, surf, depolarization) for m in fs.modes}
 
 
 def worst_spots(tmap: TouchMap, n: int = 5, min_separation_m: float = 0.01,

@@ -10,7 +10,8 @@ import numpy as np
 import pytest
 
 from ringprint.analysis.fieldset import FieldSet, ModeField
-from ringprint.analysis.touch import (exterior_air, perturbation_shift, q_after, shift_percent,
+from ringprint.analysis.touch import (FINGERTIP_DEPOLARIZATION, THIN_PAD_DEPOLARIZATION,
+                                      ellipsoid_depolarization, exterior_air, perturbation_shift, q_after, shift_percent,
                                       touch_map, touch_maps, touch_points, worst_spots)
 from ringprint.errors import RingprintError
 
@@ -100,7 +101,8 @@ def test_map_equals_direct_sum(fs, radius):
         region = _ball_region(fs, tmap.points[i], radius)
         if radius < H:
             assert region.sum() == 1
-        delta = perturbation_shift(fs, 2, region, eps, normal=tmap.normals[i])
+        delta = perturbation_shift(fs, 2, region, eps, normal=tmap.normals[i],
+                                   depolarization=FINGERTIP_DEPOLARIZATION)
         assert tmap.shift_percent[i] == pytest.approx(float(shift_percent(delta, q)), rel=1e-9)
         assert tmap.q_after[i] == pytest.approx(float(q_after(delta, q)), rel=1e-9)
 
@@ -166,3 +168,35 @@ def test_errors(fs):
         worst_spots(touch_map(fs, 1, tissue=4.0, pad_radius_m=0.0), n=0)
     with pytest.raises(RingprintError, match="Q"):
         q_after(-1e-3, 0.0)
+
+
+def test_depolarization_of_spheroids_against_osborn():
+    """Depolarization factors against the closed forms for spheroids (Osborn, J. A., Phys.
+    Rev. 67:351-357, 1945; Stratton 1941 sec. 3.27): prolate with axis ratio m > 1,
+    ``N_z = (ln(m + sqrt(m^2-1)) m / sqrt(m^2-1) - 1) / (m^2 - 1)``; a sphere 1/3 each;
+    the three always sum to 1."""
+    for m in (1.5, 3.0, 10.0):
+        s = np.sqrt(m * m - 1)
+        want = (m / s * np.log(m + s) - 1) / (m * m - 1)
+        n = ellipsoid_depolarization(1.0, 1.0, m)
+        assert n[2] == pytest.approx(want, rel=1e-10)
+        assert sum(n) == pytest.approx(1.0, rel=1e-12)
+    assert ellipsoid_depolarization(2.0, 2.0, 2.0) == pytest.approx((1 / 3,) * 3, rel=1e-12)
+    n_n, n_t = FINGERTIP_DEPOLARIZATION
+    assert n_n + 2 * n_t == pytest.approx(1.0) and n_n > 1 / 3 > n_t
+
+
+def test_local_field_limits(fs):
+    """A thin pad (N_n = 1, N_t = 0) is the default with a normal; an isotropic factor
+    scales the whole sum by 1 / (1 + N (eps - 1))."""
+    region = np.zeros(fs.shape, bool)
+    region[0, 0, 0:2] = True
+    eps = 6.0 + 1.0j
+    thin = perturbation_shift(fs, 1, region, eps, normal=(0, 0, 1))
+    explicit = perturbation_shift(fs, 1, region, eps, normal=(0, 0, 1), depolarization=THIN_PAD_DEPOLARIZATION)
+    assert thin == explicit
+    bare = perturbation_shift(fs, 1, region, eps)
+    sphere = perturbation_shift(fs, 1, region, eps, depolarization=1 / 3)
+    assert sphere == pytest.approx(bare / (1 + (eps - 1) / 3), rel=1e-12)
+    with pytest.raises(RingprintError):
+        perturbation_shift(fs, 1, region, eps, depolarization=1.5)
