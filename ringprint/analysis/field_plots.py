@@ -49,6 +49,8 @@ PART_COLOURS = ("#CC6677", "#332288", "#DDCC77", "#117733", "#88CCEE",
 _PART_STYLES = ("-", "--", ":", "-.", (0, (5, 1, 1, 1, 1, 1)), (0, (1, 3)), (0, (8, 2)))
 _AXES = "xyz"
 _DPI = 100
+#: Range of the field picture's logarithmic colour scale (dB below the peak).
+DYNAMIC_RANGE_DB = 30.0
 
 
 def resolve_mode(fs: FieldSet, mode) -> ModeField:
@@ -155,7 +157,8 @@ def _png(fig) -> bytes:
 def _colour_bar(fig, mappable, axs, label: str) -> None:
     bar = fig.colorbar(mappable, ax=list(axs), fraction=0.03, pad=0.01)
     bar.set_label(label, fontsize=8)
-    bar.formatter.set_powerlimits((-2, 3))
+    if hasattr(bar.formatter, "set_powerlimits"):  # linear scales; a log scale labels itself
+        bar.formatter.set_powerlimits((-2, 3))
     bar.ax.tick_params(labelsize=7)
 
 
@@ -244,13 +247,18 @@ def field_picture_png(fs: FieldSet, mode, quantity: str = "energy") -> bytes:
     PLoS ONE 13(7):e0199239, 2018 (cividis).
     """
     from matplotlib import patheffects
+    from matplotlib.colors import LogNorm
     from matplotlib.figure import Figure
     from matplotlib.lines import Line2D
 
     m = resolve_mode(fs, mode)
     values, label = field_quantity(fs, m, quantity)
+    label += f" (log scale, {DYNAMIC_RANGE_DB:g} dB shown)"
     peak = peak_node(values)
     top = float(values.max()) or 1.0
+    # logarithmic colours over DYNAMIC_RANGE_DB: the field at a conductor's edge peaks so
+    # sharply that a linear scale shows little else
+    floor = top * 10.0 ** (-DYNAMIC_RANGE_DB / (10.0 if quantity == "energy" else 20.0))
     roi = region_of_interest(fs, keep=[peak])
     axes = [1e3 * a[r] for a, r in zip((fs.x, fs.y, fs.z), roi)]      # mm
     local = [p - (r.start or 0) for p, r in zip(peak, roi)]
@@ -266,8 +274,9 @@ def field_picture_png(fs: FieldSet, mode, quantity: str = "energy") -> bytes:
         h, v = _plane(normal)
         cut = tuple(local[a] if a == normal else slice(None) for a in range(3))
         ext = [axes[h][0], axes[h][-1], axes[v][0], axes[v][-1]]
-        image = ax.imshow(values[cut].T, origin="lower", extent=ext, cmap="cividis", vmin=0.0,
-                          vmax=top, interpolation="bilinear", aspect="equal")
+        image = ax.imshow(np.maximum(values[cut].T, floor), origin="lower", extent=ext,
+                          cmap="cividis", norm=LogNorm(vmin=floor, vmax=top),
+                          interpolation="bilinear", aspect="equal")
         for (_, colour, style, _), mask in zip(handles, masks):
             cut_mask = mask[cut].astype(float)
             if 0 < cut_mask.sum() < cut_mask.size and min(cut_mask.shape) > 1:
