@@ -72,20 +72,23 @@ def run_field_stage(model, probe, ring, modes, hazards, out_dir, notes, progress
         m["rings_in"] = p["rings_in"]
     for h in hazards:
         h["part"] = modes[h["mode"] - 1].get("rings_in")
-    if fs.parts and any(mask.any() for mask in fs.parts.values()):
+    try:
         fs.touch = touch.touch_maps(fs, tissue=TOUCH_TISSUE)
-        for m in modes:
-            tmap = fs.touch.get(m["index"])
-            if tmap is None:
-                continue
-            worst = touch.worst_spots(tmap, n=WORST_SPOTS, q_before=m["q"])
-            m["touch"] = {"tissue": TOUCH_TISSUE, "pad_radius_m": touch.DEFAULT_PAD_RADIUS_M,
-                          "worst": worst}
-            m["touch_shift_percent"] = worst[0]["shift_percent"] if worst else 0.0
-            if worst and abs(worst[0]["shift_percent"]) > FIRST_ORDER_LIMIT:
-                notes.append(f"mode {m['index']}: a fingertip would pull it by about "
-                             f"{worst[0]['shift_percent']:.0f} % to first order, beyond the range "
-                             "where first order holds; read it as strongly touch-sensitive")
+    except RingprintError as exc:  # e.g. no air outside the parts: keep everything else
+        notes.append(f"touch maps skipped: {exc}")
+        log.warning("touch maps skipped: %s", exc)
+    for m in modes:
+        tmap = fs.touch.get(m["index"])
+        if tmap is None:
+            continue
+        worst = touch.worst_spots(tmap, n=WORST_SPOTS, q_before=m["q"])
+        m["touch"] = {"tissue": TOUCH_TISSUE, "pad_radius_m": touch.DEFAULT_PAD_RADIUS_M,
+                      "worst": worst}
+        m["touch_shift_percent"] = worst[0]["shift_percent"] if worst else 0.0
+        if worst and abs(worst[0]["shift_percent"]) > FIRST_ORDER_LIMIT:
+            notes.append(f"mode {m['index']}: a fingertip would pull it by about "
+                         f"{worst[0]['shift_percent']:.0f} % to first order, beyond the range "
+                         "where first order holds; read it as strongly touch-sensitive")
     write_fieldset(out_dir / FIELDS_NAME, fs)
     write_mode_vti(out_dir, fs)
     return fs

@@ -189,3 +189,19 @@ def test_field_memory_too_small_is_refused_before_stepping(tmp_path, capsys):
     err = capsys.readouterr().err.strip().splitlines()
     assert code == 1 and len(err) == 1 and "output.field_memory" in err[0], err
     assert not (tmp_path / "o" / "modes.json").exists() and not (tmp_path / "o" / "checkpoint.h5").exists()
+
+
+def test_a_touch_map_that_cannot_be_made_keeps_the_rest(tmp_path, monkeypatch):
+    """When the touch map is refused (e.g. no outside air reaches the parts) the run
+    still writes its modes, fields and report, with a note: nothing computed is lost."""
+    from ringprint.analysis import touch
+
+    def refuse(*_args, **_kwargs):
+        raise RingprintError("no air reaches the lattice boundary, so nothing can be touched")
+
+    monkeypatch.setattr(touch, "touch_maps", refuse)
+    case = _case(tmp_path)
+    summary = run_case(case, tmp_path / "o", progress=False, echo=None)
+    assert summary["modes"] and all("touch" not in m for m in summary["modes"])
+    assert any(n.startswith("touch maps skipped") for n in summary["notes"])
+    assert (tmp_path / "o" / "fields.h5").is_file() and (tmp_path / "o" / "report.html").is_file()
