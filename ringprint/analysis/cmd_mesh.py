@@ -61,12 +61,13 @@ def run_time_estimate(model: Model, throughput: float = THROUGHPUT_CELLS_PER_S) 
     1/e amplitude time of the highest-Q mode at the lowest frequency (a mode
     ``exp(-pi f t / Q) cos(2 pi f t)`` decays to 1/e at ``t = Q / (pi f)``). Steps
     are that time over the Courant time step; wall time is cells x steps over
-    ``throughput``.
+    ``throughput``, once more for the mode-field pass when the case asks for fields
+    (``passes``; :mod:`ringprint.analysis.mode_fields`).
 
     Returns
     -------
     dict
-        ``dt_s, source_s, ringdown_s, steps, cells, throughput, seconds``.
+        ``dt_s, source_s, ringdown_s, steps, cells, throughput, passes, seconds``.
 
     References
     ----------
@@ -79,9 +80,10 @@ def run_time_estimate(model: Model, throughput: float = THROUGHPUT_CELLS_PER_S) 
     source = float(ringdown.source_pulse(case).t_end)
     steps = ringdown.record_limit(case, dt, source)
     cells = int(np.prod([n - 1 for n in model.grid.shape]))
+    passes = 2 if case.output.fields else 1
     return {"dt_s": dt, "source_s": source, "ringdown_s": ringdown.ringdown_time(case),
-            "steps": steps,
-            "cells": cells, "throughput": float(throughput), "seconds": cells * steps / throughput}
+            "steps": steps, "cells": cells, "throughput": float(throughput), "passes": passes,
+            "seconds": passes * cells * steps / throughput}
 
 
 def _length(metres: float, case: Case, digits: int = 4) -> str:
@@ -155,7 +157,10 @@ def summary(model: Model, owners: np.ndarray, estimate: dict, case_path: str) ->
         f"memory: {format_bytes(model.memory['total'])} needed ("
         + ", ".join(f"{k} {format_bytes(v)}" for k, v in model.memory.items() if k != "total")
         + f"), {format_bytes(available_memory())} available",
-        f"run time: at most about {format_duration(estimate['seconds'])} = {estimate['steps']:,} steps x "
+        f"run time: at most about {format_duration(estimate['seconds'])} = "
+        + ("2 passes (the second takes the mode fields; --no-fields skips it) x "
+           if estimate["passes"] == 2 else "")
+        + f"{estimate['steps']:,} steps x "
         f"{estimate['cells']:,} cells at {estimate['throughput'] / 1e6:g} Mcells/s; steps cover the "
         f"source pulse ({format_si(estimate['source_s'], 's')}) and the 1/e ring-down of a "
         f"Q = {case.analysis.q_max:g} mode at f_min, q_max/(pi f_min) = "
