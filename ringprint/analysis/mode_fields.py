@@ -24,10 +24,9 @@ import numpy as np
 
 from ringprint import fdtd
 from ringprint.analysis import lattice as lt
-from ringprint.analysis.fieldset import FieldSet, ModeField
+from ringprint.analysis.fieldset import FieldSet, ModeField, stored_energy
 from ringprint.analysis.ringdown import CHUNK_STEPS, build_simulation
 from ringprint.analysis.separation import separate
-from ringprint.fdtd import EPS0, MU0
 
 #: DFT samples per period at f_max (above Nyquist, so no in-band mode aliases onto another).
 SAMPLES_PER_PERIOD = 3.0
@@ -45,8 +44,7 @@ def normalize(e: np.ndarray, h: np.ndarray, eps_r: np.ndarray, cell_volume: floa
 
     Stored energy ``W = 1/4 sum(eps0 eps_r |E|^2 + mu0 |H|^2) dV`` (time average).
     """
-    w = 0.25 * cell_volume * (EPS0 * np.sum(eps_r * np.sum(np.abs(e) ** 2, axis=0))
-                              + MU0 * np.sum(np.abs(h) ** 2))
+    w = stored_energy(eps_r, e, h, cell_volume)
     if not (w > 0 and np.isfinite(w)):
         return e, h
     turn = np.exp(-0.5j * np.angle(np.sum(e * e)))

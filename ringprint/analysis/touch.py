@@ -78,10 +78,10 @@ import numpy as np
 import scipy.fft
 from scipy import ndimage, signal
 
-from ringprint.analysis.fieldset import FieldSet, ModeField, TouchMap
+from ringprint.analysis.fieldset import FieldSet, ModeField, TouchMap, stored_energy
 from ringprint.analysis.tissue import tissue_permittivity
 from ringprint.errors import RingprintError
-from ringprint.fdtd import EPS0, MU0
+from ringprint.fdtd import EPS0
 
 __all__ = ["DEFAULT_PAD_RADIUS_M", "exterior_air", "perturbation_shift", "q_after", "shift_percent",
            "touch_map", "touch_maps", "touch_points", "worst_spots"]
@@ -157,16 +157,9 @@ def _eps_tissue(tissue, frequency_hz: float) -> complex:
     return eps
 
 
-def _square(v: np.ndarray) -> np.ndarray:
-    """``|v|^2`` summed over the component axis, in float64."""
-    return np.einsum("c...,c...->...", v.real, v.real, dtype=float) \
-        + np.einsum("c...,c...->...", v.imag, v.imag, dtype=float)
-
-
 def _energy4(fs: FieldSet, m: ModeField) -> float:
     """``Int(eps |E|^2 + mu0 |H|^2) dV`` over the lattice (four times the stored energy)."""
-    total = (EPS0 * float(np.sum(fs.eps_r * _square(m.e))) + MU0 * float(np.sum(_square(m.h)))) \
-        * fs.cell_volume
+    total = 4.0 * stored_energy(fs.eps_r, m.e, m.h, fs.cell_volume)
     if not total > 0:
         raise RingprintError(f"mode {m.index} has no stored energy on the lattice; its fields are empty")
     return total
