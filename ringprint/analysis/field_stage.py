@@ -54,14 +54,13 @@ def check_budget(model, budget_bytes: float) -> None:
 
 def run_field_stage(model, probe, ring, modes, hazards, out_dir, notes, progress=None):
     """Compute and attach everything field-derived; returns the FieldSet or None."""
-    budget = model.case.output.field_memory_bytes
     try:
-        lt.plan_lattice(model, len(modes), budget)
+        lat = lt.plan_lattice(model, len(modes), model.case.output.field_memory_bytes)
     except RingprintError as exc:
         notes.append(f"mode fields skipped: {exc}")
         log.warning("mode fields skipped: %s", exc)
         return None
-    fs = compute_fields(model, probe, ring, modes, budget, progress=progress, notes=notes)
+    fs = compute_fields(model, probe, ring, modes, lat, progress=progress, notes=notes)
     log.info("mode fields on every %d grid node(s): %s points", fs.decimation,
              "x".join(str(n) for n in fs.shape))
     regions = Regions(fs, model.grid.cell)

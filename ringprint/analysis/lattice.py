@@ -85,15 +85,14 @@ def _node_mean(edges, ii, jj, kk) -> np.ndarray:
     """Mean over the six Yee edges meeting at each lattice node of per-edge arrays."""
     i, j, k = np.ix_(ii, jj, kk)
     ex, ey, ez = edges
-    total = (ex[i - 1, j, k] + ex[i, j, k] + ey[i, j - 1, k] + ey[i, j, k]
-             + ez[i, j, k - 1] + ez[i, j, k])
-    return total / 6.0
+    terms = (ex[i - 1, j, k], ex[i, j, k], ey[i, j - 1, k], ey[i, j, k], ez[i, j, k - 1], ez[i, j, k])
+    return sum(t.astype(np.float64) for t in terms) / 6.0  # cast after gathering: lattice-sized
 
 
 def node_media(model, lat: Lattice):
     """``(eps_r, sigma, pec)`` at the lattice nodes (float32, float32, bool)."""
     ii, jj, kk = lat.indices()
-    pec = _node_mean([p.astype(np.float32) for p in model.pec], ii, jj, kk) > 0
+    pec = _node_mean(model.pec, ii, jj, kk) > 0
     eps = np.where(pec, 1.0, _node_mean(model.eps_r, ii, jj, kk)).astype(np.float32)
     sigma = np.where(pec, 0.0, _node_mean(model.sigma, ii, jj, kk)).astype(np.float32)
     return eps, sigma, pec

@@ -52,7 +52,7 @@ def normalize(e: np.ndarray, h: np.ndarray, eps_r: np.ndarray, cell_volume: floa
     return e * scale, h * scale
 
 
-def compute_fields(model, probe, ring, modes, budget_bytes: float, progress=None, notes=None) -> FieldSet:
+def compute_fields(model, probe, ring, modes, lat: lt.Lattice, progress=None, notes=None) -> FieldSet:
     """Run the field pass and return every mode's normalized field on the lattice.
 
     Parameters
@@ -64,8 +64,8 @@ def compute_fields(model, probe, ring, modes, budget_bytes: float, progress=None
         The first run (its step count and ring-down start).
     modes : list of dict
         The mode table (``index``, ``frequency_hz``, ``q``, ``decay_rate_per_s``).
-    budget_bytes : float
-        Memory the fields may take (chooses the lattice).
+    lat : Lattice
+        Where the fields are taken (:func:`ringprint.analysis.lattice.plan_lattice`).
     progress : callable or None
         ``progress(step, total)``.
     notes : list or None
@@ -75,7 +75,6 @@ def compute_fields(model, probe, ring, modes, budget_bytes: float, progress=None
     ----------
     Harrington, R. F., Time-Harmonic Electromagnetic Fields, 1961 (phasors, stored energy).
     """
-    lat = lt.plan_lattice(model, len(modes), budget_bytes)
     eps_r, sigma, pec = lt.node_media(model, lat)
     masks = lt.part_masks(model, lat)
     axes = [ax[i] for ax, i in zip(model.grid.axes, lat.indices())]
