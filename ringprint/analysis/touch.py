@@ -115,8 +115,7 @@ def ellipsoid_depolarization(a: float, b: float, c: float) -> tuple[float, float
 
 #: Depolarization (along the normal, in the plane) of the touch pad: a hemisphere of
 #: tissue on a flat face, as the spheroid of equal volume with semi-axes (R, R, R/2).
-FINGERTIP_DEPOLARIZATION = (ellipsoid_depolarization(1.0, 1.0, 0.5)[2],
-                            ellipsoid_depolarization(1.0, 1.0, 0.5)[0])
+FINGERTIP_DEPOLARIZATION = tuple(ellipsoid_depolarization(1.0, 1.0, 0.5)[k] for k in (2, 0))
 
 
 def local_factor(eps_t: complex, n_depol: float) -> complex:
