@@ -108,6 +108,28 @@ class FieldSet:
     def cell_volume(self) -> float:
         return self.spacing ** 3
 
+    def dual_lengths(self) -> tuple:
+        """Per axis, the length each lattice node stands for (1-D arrays): half the
+        distance to each neighbour, half a step beyond the end nodes, so that the
+        lengths of a uniform lattice all equal its spacing."""
+        out = []
+        for a in (self.x, self.y, self.z):
+            if a.size < 2:
+                out.append(np.ones(a.size))
+                continue
+            d = np.diff(a)
+            w = np.empty(a.size)
+            w[1:-1] = 0.5 * (d[:-1] + d[1:])
+            w[0], w[-1] = d[0], d[-1]
+            out.append(w)
+        return tuple(out)
+
+    def node_volumes(self) -> np.ndarray:
+        """Volume each lattice node stands for (m^3), shaped (nx, ny, nz); the product
+        of :meth:`dual_lengths`, and ``cell_volume`` everywhere on a uniform lattice."""
+        wx, wy, wz = self.dual_lengths()
+        return wx[:, None, None] * wy[None, :, None] * wz[None, None, :]
+
     def mode(self, index: int) -> ModeField:
         """The mode numbered ``index`` (1-based, as in modes.json)."""
         for m in self.modes:
