@@ -16,8 +16,14 @@ Rules (documented here because the report relies on them):
   parallel (see :func:`_dielectric_average`). Conductivity rides along as the
   imaginary part ``-sigma / (omega0 eps0)`` at the case's loss frequency ``omega0``,
   so a lossy edge keeps its loss tangent there.
-- **Conductors** (all treated as perfect today) make an edge PEC when the edge itself
-  (the middle sub-ray) lies at least half inside the part, the unbiased staircase.
+- **Conductors** (perfect conductors in the solver; their skin-effect loss is added to
+  each mode afterwards) are **locally conformal** (Dey & Mittra 1997,
+  :mod:`ringprint.fdtd.conformal`): an edge is PEC only when its own line lies wholly
+  inside the metal; every H face the metal cuts is updated on its free area with the
+  free lengths of its edges (exact ray crossings,
+  :func:`ringprint.meshing.conformal_fractions`). Several conductors add their inside
+  fractions (clipped at the whole). With ``conformal=False`` an edge is PEC when its
+  own line lies at least half inside the part, the unbiased staircase.
   Sheets, and conductor solids thinner than ``THIN_CELLS`` cells, are staircased
   through the grid *nodes*: a node lies on the surface when the surface crosses one
   of the three one-cell segments centred on it along x, y and z (the half-open rule
@@ -48,6 +54,8 @@ from ringprint.fdtd import EPS0
 THIN_CELLS = 1.5
 #: Sub-rays per transverse axis used for interface averaging (odd: the middle one is the edge).
 SUBRAYS = 3
+#: An edge counts as wholly inside conformal metal within this fraction of its length.
+CONFORMAL_TOL = 1e-6
 COMPONENTS = ("x", "y", "z")
 
 
@@ -81,6 +89,8 @@ class Model:
     pec: tuple
     memory: dict
     warnings: list
+    free_length: tuple | None = None   #: per E edge, fraction outside conformal metal
+    free_area: tuple | None = None     #: per H face, fraction outside conformal metal
 
     @property
     def axes(self):
@@ -90,7 +100,8 @@ class Model:
         return fdtd.Grid(self.grid.x, self.grid.y, self.grid.z)
 
     def media(self, grid: fdtd.Grid | None = None) -> fdtd.Media:
-        return fdtd.Media(grid or self.fdtd_grid(), eps_r=self.eps_r, sigma=self.sigma, pec=self.pec)
+        return fdtd.Media(grid or self.fdtd_grid(), eps_r=self.eps_r, sigma=self.sigma, pec=self.pec,
+                          free_length=self.free_length, free_area=self.free_area)
 
     @property
     def bounds(self):
@@ -140,7 +151,8 @@ def plan(case: Case, parts: list[PartModel]) -> meshing.Grid:
                              boundary_cells=case.grid.absorber_cells, f_min=case.spectrum.f_min_hz)
 
 
-def build_model(case: Case, allow_memory: bool = False, progress=None) -> Model:
+def build_model(case: Case, allow_memory: bool = False, progress=None,
+                conformal: bool = True) -> Model:
     """Mesh the case: read parts, plan the grid, check memory, voxelize, assemble media.
 
     Parameters
@@ -150,6 +162,8 @@ def build_model(case: Case, allow_memory: bool = False, progress=None) -> Model:
         Run even when the estimate exceeds the available memory.
     progress : callable or None
         Called as ``progress(done, total, what)`` after each part is voxelized.
+    conformal : bool
+        Conductor solids conformal (default) or staircased (module docstring).
 
     Returns
     -------
@@ -176,13 +190,16 @@ def build_model(case: Case, allow_memory: bool = False, progress=None) -> Model:
             p.thin = any(s.name in thin for s in p.surfaces)
             for s in p.surfaces:
                 cuts = p.is_conductor and (p.thin or meshing.thickness(s, grid.cell / 2) < THIN_CELLS * grid.cell)
-                p.fills.append(meshing.voxelize(s, *grid.axes, subrays=SUBRAYS, cuts=cuts))
+                p.fills.append(meshing.voxelize(s, *grid.axes, subrays=SUBRAYS, cuts=cuts,
+                                                faces=conformal and p.is_conductor and not cuts
+                                                and s.kind == "solid"))
                 done += 1
                 if progress is not None:
                     progress(done, total, p.name)
     notes = [str(w.message) for w in caught]
     eps, sig, pec = assemble(case, grid, parts)
-    return Model(case, grid, parts, eps, sig, pec, memory, notes)
+    free = conformal_metal(grid, parts, pec)
+    return Model(case, grid, parts, eps, sig, pec, memory, notes, *free)
 
 
 def _shapes(grid: meshing.Grid) -> dict:
@@ -299,7 +316,8 @@ def assemble(case: Case, grid: meshing.Grid, parts: list[PartModel]):
                 continue
             if f.fractions is not None:
                 box = f.centre(comp)
-                pec[box.slices] |= box.data >= 0.5
+                # conformal metal: PEC only where the edge lies wholly inside
+                pec[box.slices] |= box.data >= (1.0 - CONFORMAL_TOL if f.faces is not None else 0.5)
         for nodes in sheets:
             pec |= _edges_between(nodes, comp)
         eps = np.ones(shape, np.complex128)
@@ -310,3 +328,34 @@ def assemble(case: Case, grid: meshing.Grid, parts: list[PartModel]):
         sig_out.append(np.ascontiguousarray(np.maximum(-eps.imag * omega0 * EPS0, 0.0)))
         pec_out.append(pec)
     return tuple(eps_out), tuple(sig_out), tuple(pec_out)
+
+
+def _h_shapes(grid: meshing.Grid) -> dict:
+    nx, ny, nz = grid.shape
+    return {"x": (nx, ny - 1, nz - 1), "y": (nx - 1, ny, nz - 1), "z": (nx - 1, ny - 1, nz)}
+
+
+def conformal_metal(grid: meshing.Grid, parts: list[PartModel], pec: tuple):
+    """``(free_length, free_area)`` of the conformal conductors, or ``(None, None)``.
+
+    The free fraction of an edge (face) is one minus the inside fractions of every
+    conformal conductor, clipped at 0; PEC edges (staircased sheets and thin parts
+    included) are wholly inside. The face data come from
+    :func:`ringprint.meshing.conformal_fractions` (Dey & Mittra 1997).
+    """
+    fills = [f for p in parts if p.is_conductor for f in p.fills if f.faces is not None]
+    if not fills:
+        return None, None
+    shapes, h_shapes = _shapes(grid), _h_shapes(grid)
+    lengths, areas = [], []
+    for comp in COMPONENTS:
+        inside = np.zeros(shapes[comp], np.float32)
+        face = np.zeros(h_shapes[comp], np.float32)
+        for f in fills:
+            inside[f.lines[comp].slices] += f.lines[comp].data
+            face[f.faces[comp].slices] += f.faces[comp].data
+        free = np.clip(1.0 - inside, 0.0, 1.0)
+        free[pec[COMPONENTS.index(comp)]] = 0.0
+        lengths.append(free)
+        areas.append(np.clip(1.0 - face, 0.0, 1.0))
+    return tuple(lengths), tuple(areas)

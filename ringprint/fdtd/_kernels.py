@@ -192,11 +192,95 @@ def _z_layers(f, g, psi_lo, psi_hi, b, a, rz, o, sign, i, j, u, m, coef):
         _psi_k(f, g, psi_hi, i, j, b, a, rz[2], o, sign, rz[2], rz[3], u, m, coef)
 
 
+# ------------------------------------------------------------ conformal faces
+@njit(cache=True, fastmath=_FM, inline="always")
+def _h_conformal(i, f, ch, ih, cf, wn, wc, en):
+    """Dey-Mittra update of the cut H faces on plane i (after the plain rows).
+
+    The plain row gave ``H - c curl E``; a cut face wants ``H - c g curl(l E)`` with
+    the free edge fractions l and ``g = 1 / free area`` (0 holds H), so the
+    difference ``c (curl E - g curl(l E))`` is added back. E on planes i and i+1 is
+    still E^n here (the fused sweep updates E on plane i after this).
+
+    With ``en`` it returns what turns the plain row's energy term ``H_old H_plain w``
+    of each cut face into the conserved form ``a H_old H_new w`` of the scheme
+    (module :mod:`ringprint.fdtd.conformal`)."""
+    ex, ey, ez, hx, hy, hz = f
+    ixh, iyh, izh = ih
+    ptr, comp, cj, ck, g, ln = cf
+    acc = 0.0
+    for n in range(ptr[i], ptr[i + 1]):
+        j = cj[n]
+        k = ck[n]
+        gi = g[n]
+        c = comp[n]
+        if c == 0:
+            p0, p1, q0, q1 = ez[i, j, k], ez[i, j + 1, k], ey[i, j, k], ey[i, j, k + 1]
+            sp, sq = iyh[j], izh[k]
+        elif c == 1:
+            p0, p1, q0, q1 = ez[i, j, k], ez[i + 1, j, k], ex[i, j, k], ex[i, j, k + 1]
+            sp, sq = ixh[i], izh[k]
+        else:
+            p0, p1, q0, q1 = ey[i, j, k], ey[i + 1, j, k], ex[i, j, k], ex[i, j + 1, k]
+            sp, sq = ixh[i], iyh[j]
+        plain = (p1 - p0) * sp - (q1 - q0) * sq
+        cut = ((ln[n, 1] * p1 - ln[n, 0] * p0) * sp - (ln[n, 3] * q1 - ln[n, 2] * q0) * sq) * gi
+        d = ch * (plain - cut)
+        if c == 0:
+            now = hx[i, j, k]
+            hx[i, j, k] = now + d
+            old = now + ch * plain
+            w = wn[0][i] * wc[1][j] * wc[2][k]
+        elif c == 1:
+            now = hy[i, j, k]
+            hy[i, j, k] = now - d
+            old = now - ch * plain
+            w = wc[0][i] * wn[1][j] * wc[2][k]
+        else:
+            now = hz[i, j, k]
+            hz[i, j, k] = now + d
+            old = now + ch * plain
+            w = wc[0][i] * wc[1][j] * wn[2][k]
+        if en:
+            area = 1.0 / gi if gi > 0 else 0.0
+            new = now + d if c != 1 else now - d
+            acc += np.float64(w) * (area * np.float64(old) * np.float64(new)
+                                    - np.float64(old) * np.float64(now))
+    return acc
+
+
+@njit(cache=True)
+def conformal_e_energy(f, epst, m, ce, wn, wc):
+    """What turns the plain ``eps E^2 w`` of each partly free E edge into the
+    conserved ``l eps E^2 w`` (l its free length fraction); call with E^n, before the
+    step. ``ce = (comp, idx (n, 3), lengths)``."""
+    comp, idx, ln = ce
+    acc = 0.0
+    for n in range(comp.size):
+        c = comp[n]
+        i, j, k = idx[n, 0], idx[n, 1], idx[n, 2]
+        if c == 0:
+            v = np.float64(f[0][i, j, k])
+            w = wc[0][i] * wn[1][j] * wn[2][k]
+            mk = m[0][i, j, k]
+        elif c == 1:
+            v = np.float64(f[1][i, j, k])
+            w = wn[0][i] * wc[1][j] * wn[2][k]
+            mk = m[1][i, j, k]
+        else:
+            v = np.float64(f[2][i, j, k])
+            w = wn[0][i] * wn[1][j] * wc[2][k]
+            mk = m[2][i, j, k]
+        acc += (ln[n] - 1.0) * epst[mk] * v * v * np.float64(w)
+    return acc
+
+
 # ------------------------------------------------------------------------ sweeps
 @njit(cache=True, fastmath=_FM, inline="always")
-def _h_plane(i, f, ch, ih, wn, wc, mdum, chtab, b, a, r, psi, pos, neg, en):
-    """H^(n+1/2) on the plane i of all three H components, CPML rows included.
-    Returns ``sum H_old H_new w`` of the plane."""
+def _h_plane(i, f, ch, ih, wn, wc, mdum, chtab, b, a, r, psi, pos, neg, en, cf):
+    """H^(n+1/2) on the plane i of all three H components, CPML rows and cut
+    (conformal) faces included. Returns ``sum H_old H_new w`` of the plane (the plain
+    form: a cut face's energy weight is not reduced to its free area)."""
     ex, ey, ez, hx, hy, hz = f
     ixh, iyh, izh = ih
     nx, ny, nz = hx.shape[0], hy.shape[1], hz.shape[2]
@@ -226,6 +310,7 @@ def _h_plane(i, f, ch, ih, wn, wc, mdum, chtab, b, a, r, psi, pos, neg, en):
             if ly >= 0:
                 _psi_t(hz, ex, psi[10 + ly], i, j, 0, 1, 1, i, j - r[1][2 * ly], b[1][j],
                        a[1][j], pos, 0, nz, 0, mdum, chtab)
+    acc += _h_conformal(i, f, ch, ih, cf, wn, wc, en)
     return acc
 
 
@@ -275,7 +360,7 @@ def _e_plane(i, f, m, u, ca, cb, epst, ie, wn, wc, b, a, r, psi, pos, neg, en):
 
 @njit(parallel=True, cache=True, fastmath=_FM)
 def step(nchunk, f, ch, ih, chtab, bh, ah, rh, psih, m, u, ca, cb, epst, ie, be, ae, re, psie,
-         wn, wc, sg, en):
+         wn, wc, sg, cf, en):
     """One Yee step of the sweeps: H^(n+1/2) from E^n, then E^(n+1) on the interior
     edges, both with their CPML rows, in one pass over the planes i.
 
@@ -295,7 +380,9 @@ def step(nchunk, f, ch, ih, chtab, bh, ah, rh, psih, m, u, ca, cb, epst, ie, be,
     lo, x hi, y lo, y hi)``, ``psie`` the E ones in the same order; ``m`` the media
     index per edge, ``u`` per (i, j) row the index when the whole row has one, else
     -1; ``wn, wc`` the energy weights per axis at nodes / cell centres; ``sg = (1,
-    -1)`` in the field dtype (a float64 literal would promote the rows to float64).
+    -1)`` in the field dtype (a float64 literal would promote the rows to float64);
+    ``cf`` the cut faces of conformal metal ``(ptr, comp, j, k, 1/area, lengths)``
+    (:func:`_h_conformal`; empty arrays without conformal metal).
 
     Returns ``(sum H^(n-1/2) H^(n+1/2) w, sum eps E^n E^n w)`` (0 when ``en`` is
     false).
@@ -310,7 +397,7 @@ def step(nchunk, f, ch, ih, chtab, bh, ah, rh, psih, m, u, ca, cb, epst, ie, be,
         sh = 0.0
         se = 0.0
         for i in range(i0, i1):
-            sh += _h_plane(i, f, ch, ih, wn, wc, mdum, chtab, bh, ah, rh, psih, pos, neg, en)
+            sh += _h_plane(i, f, ch, ih, wn, wc, mdum, chtab, bh, ah, rh, psih, pos, neg, en, cf)
             if i > i0:
                 se += _e_plane(i, f, m, u, ca, cb, epst, ie, wn, wc, be, ae, re, psie, pos, neg, en)
         wh += sh

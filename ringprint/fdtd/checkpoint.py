@@ -16,6 +16,7 @@ import h5py
 import numpy as np
 
 from ringprint.errors import RingprintError
+from ringprint.fdtd.conformal import ConformalFaces
 from ringprint.fdtd.cpml import CpmlSettings
 from ringprint.fdtd.grid import AXES, COMPONENTS, Grid
 from ringprint.fdtd.media import Media
@@ -47,6 +48,12 @@ def save(sim, path) -> None:
             h[f"media/index_{a}"] = v
         h["media/eps_r_table"] = sim.media.eps_r_table
         h["media/sigma_table"] = sim.media.sigma_table
+        cf = sim.media.conformal
+        if cf is not None:
+            for key, v in cf.arrays().items():
+                h[f"media/conformal/{key}"] = v
+            h["media/conformal"].attrs["step_factor"] = cf.step_factor
+            h["media/conformal"].attrs["enlarged"] = cf.enlarged
         for c in COMPONENTS:
             h[f"fields/{c}"] = sim.fields[c]
         for i, p in enumerate(sim.psi_arrays):
@@ -70,8 +77,15 @@ def load(cls, path):
             raise RingprintError(f"checkpoint {path}: not a ringprint solver checkpoint")
         st = json.loads(h.attrs["settings"])
         grid = Grid(*(h[f"grid/{a}"][...] for a in AXES))
+        conformal = None
+        if "media/conformal" in h:
+            g = h["media/conformal"]
+            conformal = ConformalFaces(**{k: g[k][...] for k in ConformalFaces.empty(1).arrays()},
+                                       step_factor=float(g.attrs["step_factor"]),
+                                       enlarged=int(g.attrs["enlarged"]))
         media = Media.from_tables(grid, [h[f"media/index_{a}"][...] for a in AXES],
-                                  h["media/eps_r_table"][...], h["media/sigma_table"][...])
+                                  h["media/eps_r_table"][...], h["media/sigma_table"][...],
+                                  conformal)
         sim = cls(grid, media, boundaries=st["boundaries"], cpml_cells=st["cpml_cells"],
                   courant=st["courant"], dtype=np.dtype(st["dtype"]), f_max=st["f_max"],
                   cpml=CpmlSettings(**st["cpml"]), energy_every=st["energy_every"])

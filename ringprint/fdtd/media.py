@@ -5,7 +5,8 @@ from __future__ import annotations
 import numpy as np
 
 from ringprint.errors import RingprintError
-from ringprint.fdtd.grid import E_COMPONENTS, EPS0, Grid
+from ringprint.fdtd.conformal import MIN_STEP_FACTOR, ConformalFaces, conformal_faces
+from ringprint.fdtd.grid import E_COMPONENTS, EPS0, H_COMPONENTS, Grid
 
 #: Relative resolution used to quantize eps_r and sigma when the unique pairs
 #: do not fit a uint16 index (see :class:`Media`).
@@ -31,6 +32,14 @@ class Media:
         Conductivity in S/m, same layout, finite and >= 0.
     pec : None or tuple of 3 array_like of bool
         Edges that are perfect electric conductors.
+    free_length, free_area : None or tuple of 3 array_like
+        Locally conformal metal (:mod:`ringprint.fdtd.conformal`, Dey & Mittra 1997):
+        the fraction of every E edge (shaped like Ex, Ey, Ez) and of every H face
+        (shaped like Hx, Hy, Hz) that lies outside the metal. Give both or neither.
+        PEC edges count as wholly inside whatever ``free_length`` says.
+    min_step_factor : float
+        Smallest time-step factor the cut faces may force (see
+        :mod:`ringprint.fdtd.conformal`); faces needing less are closed as metal.
 
     Notes
     -----
@@ -42,7 +51,8 @@ class Media:
     a RingprintError is raised.
     """
 
-    def __init__(self, grid: Grid, eps_r=1.0, sigma=0.0, pec=None):
+    def __init__(self, grid: Grid, eps_r=1.0, sigma=0.0, pec=None, free_length=None,
+                 free_area=None, min_step_factor: float = MIN_STEP_FACTOR):
         self.grid = grid
         shapes = [grid.component_shape(c) for c in E_COMPONENTS]
         eps = _per_component(eps_r, shapes, "eps_r")
@@ -51,6 +61,7 @@ class Media:
             masks = [None, None, None]
         else:
             masks = _per_component(pec, shapes, "pec", dtype=bool)
+        self.conformal = _conformal(grid, free_length, free_area, masks, min_step_factor)
         for c, e, s in zip(E_COMPONENTS, eps, sig):
             _check_values(c, e, s)
         self.quantized = False
@@ -111,12 +122,19 @@ class Media:
         """Absolute permittivity per entry (F/m) for energy sums; 0 for PEC."""
         return np.concatenate([[0.0], EPS0 * self.eps_r_table[1:]])
 
+    @property
+    def step_factor(self) -> float:
+        """Factor on the Courant time step that the conformal faces need (1 without)."""
+        return 1.0 if self.conformal is None else self.conformal.step_factor
+
     @classmethod
-    def from_tables(cls, grid: Grid, index, eps_r_table, sigma_table) -> "Media":
+    def from_tables(cls, grid: Grid, index, eps_r_table, sigma_table,
+                    conformal: ConformalFaces | None = None) -> "Media":
         """Rebuild from stored index arrays and tables (used by checkpoints)."""
         self = cls.__new__(cls)
         self.grid = grid
         self.quantized = False
+        self.conformal = conformal
         shapes = [grid.component_shape(c) for c in E_COMPONENTS]
         self.index = tuple(np.ascontiguousarray(v) for v in index)
         for v, sh in zip(self.index, shapes):
@@ -125,6 +143,28 @@ class Media:
         self.eps_r_table = np.asarray(eps_r_table, float)
         self.sigma_table = np.asarray(sigma_table, float)
         return self
+
+
+def _conformal(grid, free_length, free_area, masks, min_step_factor):
+    if free_length is None and free_area is None:
+        return None
+    if free_length is None or free_area is None:
+        raise RingprintError("media: conformal metal needs both free_length (per E edge) and "
+                             "free_area (per H face); give both or neither")
+    e_shapes = [grid.component_shape(c) for c in E_COMPONENTS]
+    h_shapes = [grid.component_shape(c) for c in H_COMPONENTS]
+    lengths = _per_component(free_length, e_shapes, "free_length")
+    areas = _per_component(free_area, h_shapes, "free_area")
+    for name, group in (("free_length", lengths), ("free_area", areas)):
+        for v in group:
+            if np.any(~np.isfinite(v)) or np.any(v < 0) or np.any(v > 1):
+                raise RingprintError(f"media {name}: fractions must lie in [0, 1]")
+    lengths = [np.broadcast_to(v, sh).astype(np.float32) for v, sh in zip(lengths, e_shapes)]
+    for v, m in zip(lengths, masks):
+        if m is not None:
+            v[np.broadcast_to(m, v.shape)] = 0.0
+    areas = [np.broadcast_to(v, sh) for v, sh in zip(areas, h_shapes)]
+    return conformal_faces(grid, lengths, areas, min_step_factor)
 
 
 def _per_component(value, shapes, name, dtype=float):

@@ -9,6 +9,7 @@ import numpy as np
 
 from ringprint.errors import RingprintError
 from ringprint.fdtd import _kernels as K
+from ringprint.fdtd.conformal import ConformalFaces
 from ringprint.fdtd.cpml import CpmlSettings, axis_profiles, parse_boundaries
 from ringprint.fdtd.grid import AXES, C0, COMPONENTS, MU0, Grid, courant_time_step
 from ringprint.fdtd.layout import Layout
@@ -93,7 +94,7 @@ class Simulation:
         if self.energy_every < 1:
             raise RingprintError(f"energy_every = {energy_every!r} must be an integer >= 1")
         self.layout = Layout(grid, self.boundaries, self.cpml_cells)
-        self.dt = courant_time_step(grid, courant, media.eps_r_min)
+        self.dt = courant_time_step(grid, courant, media.eps_r_min) * media.step_factor
         if f_max is not None:
             self._check_resolution(float(f_max))
         self.step_index = 0
@@ -143,6 +144,24 @@ class Simulation:
         self._wc = [w.astype(ft) for w in lay.energy_weights()[1]]
         self._boxes = [(c, lo, hi, tuple(x.astype(ft) for x in w)) for c, lo, hi, w in lay.pmc_boxes()]
         self._build_cpml()
+        self._build_conformal()
+
+    def _build_conformal(self):
+        """The cut faces of conformal metal as kernel arrays (empty without)."""
+        cf = self.media.conformal or ConformalFaces.empty(self.grid.shape[0])
+        if cf.ptr.size != self.grid.shape[0] + 1:
+            raise RingprintError("media: conformal faces were built for another grid")
+        if cf.size:
+            lay = self.layout
+            for name, v, axis in (("i", np.repeat(np.arange(cf.ptr.size - 1), np.diff(cf.ptr)), 0),
+                                  ("j", cf.j, 1), ("k", cf.k, 2)):
+                if v.min() < lay.lo[axis] or v.max() > lay.hi[axis]:
+                    raise RingprintError(
+                        "conformal metal reaches into the CPML layer along "
+                        f"{AXES[axis]}; keep conductors inside the padding (enlarge it)")
+        self._conformal = (cf.ptr, cf.comp, cf.j, cf.k, cf.inv_area.astype(self.dtype),
+                           np.ascontiguousarray(cf.lengths, self.dtype))
+        self._conformal_e = (cf.edge_comp, cf.edge_index, cf.edge_length)
 
     def _build_cpml(self):
         """CPML coefficients, psi arrays (only inside the layers) and wall rows."""
@@ -271,7 +290,11 @@ class Simulation:
         try:
             for n in range(n_steps):
                 en = (start + n) % self.energy_every == 0
+                cut = K.conformal_e_energy(sweep[0], self._epst, sweep[8], self._conformal_e,
+                                           sweep[18], sweep[19]) if en and self._conformal_e[0].size \
+                    else 0.0
                 wh, we = K.step(nchunk, *sweep, en)
+                we += cut
                 for comp, lo, hi, w in self._boxes:
                     we += K.update_e_box(comp, lo, hi, ex, ey, ez, hx, hy, hz, mx, my, mz, self._ca,
                                          self._cb, self._epst, ie[0], ie[1], ie[2], w[0], w[1], w[2])
@@ -305,7 +328,8 @@ class Simulation:
         return (tuple(f[c] for c in COMPONENTS), self._ch, tuple(self._inv_h), self._chtab,
                 self._pb_h, self._pa_h, self._r_h, self._psi_h, tuple(self.media.index),
                 self._urows, self._ca, self._cb, self._epst, tuple(self._inv_e), self._pb_e,
-                self._pa_e, self._r_e, self._psi_e, tuple(self._wn), tuple(self._wc), self._signs)
+                self._pa_e, self._r_e, self._psi_e, tuple(self._wn), tuple(self._wc), self._signs,
+                self._conformal)
 
     def _guard(self, energy, t, t_end):
         if not np.isfinite(energy):

@@ -5,6 +5,7 @@ part". Coordinates are metres once :func:`transform_surface` has applied the uni
 """
 
 from ringprint.meshing.checks import HOLE_FRACTION, MeshingWarning, prepare_surface
+from ringprint.meshing.conformal import conformal_fractions, edge_lines
 from ringprint.meshing.grid import (Grid, available_memory, cell_size, check_memory, default_padding,
                                     memory_estimate, plan_grid, thickness, warn_thin_parts)
 from ringprint.meshing.overlap import resolve_overlaps
@@ -16,7 +17,7 @@ from ringprint.meshing.voxelize import (EdgeBox, PartFill, dual_nodes, edge_frac
                                         voxelize)
 
 __all__ = [
-    "CAD_EXTENSIONS", "EdgeBox", "Grid", "HOLE_FRACTION", "MESH_EXTENSIONS", "MeshingWarning",
+    "CAD_EXTENSIONS", "EdgeBox", "conformal_fractions", "edge_lines", "Grid", "HOLE_FRACTION", "MESH_EXTENSIONS", "MeshingWarning",
     "PartFill", "Surface", "UNITS", "available_memory", "load_parts", "cell_size", "check_memory",
     "default_padding", "dual_nodes", "edge_fractions", "memory_estimate", "plan_grid",
     "prepare_surface", "read_surfaces", "resolve_overlaps", "rotation_matrix", "signed_volume",

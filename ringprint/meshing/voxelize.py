@@ -50,6 +50,12 @@ class PartFill:
     cuts : dict or None
         ``{"x"|"y"|"z": EdgeBox}`` with ``data`` bool (bx, by, bz): the edge is cut by
         the surface (rule in :func:`surface_cuts`). Present for sheets and when asked.
+    lines : dict or None
+        ``{"x"|"y"|"z": EdgeBox}`` float32: the fraction of each edge's own line inside
+        the part (exact on any grid; :func:`ringprint.meshing.conformal_fractions`).
+    faces : dict or None
+        ``{"x"|"y"|"z": EdgeBox}`` float32 indexing the Hx/Hy/Hz arrays: the fraction
+        of each H face's area inside the part (asked for conformal metal).
     """
 
     name: str
@@ -57,9 +63,15 @@ class PartFill:
     subrays: int
     fractions: dict | None
     cuts: dict | None
+    lines: dict | None = None
+    faces: dict | None = None
 
     def centre(self, comp):
-        """Fraction of each edge itself inside the part (middle sub-ray), float32."""
+        """Fraction of each edge itself inside the part, float32: the exact line
+        fraction when known, else the middle sub-ray (the edge itself on a uniform
+        grid)."""
+        if self.lines is not None:
+            return self.lines[comp]
         box = self.fractions[comp]
         return EdgeBox(box.offset, box.data[box.data.shape[0] // 2])
 
@@ -223,7 +235,7 @@ def surface_cuts(surface, x, y, z):
     return out
 
 
-def voxelize(surface, x, y, z, subrays=3, cuts=False):
+def voxelize(surface, x, y, z, subrays=3, cuts=False, faces=False):
     """Voxelize one checked part: fractions for solids, cut masks for sheets.
 
     Parameters
@@ -237,6 +249,9 @@ def voxelize(surface, x, y, z, subrays=3, cuts=False):
     cuts : bool
         Also compute the surface-cut mask of a solid (do this for conductors so
         shells thinner than a cell stay conducting). Always done for sheets.
+    faces : bool
+        Also compute the H-face area fractions of a solid (conformal metal). The
+        exact edge-line fractions are always computed for solids.
 
     Returns
     -------
@@ -251,5 +266,11 @@ def voxelize(surface, x, y, z, subrays=3, cuts=False):
         raise RingprintError(f"part {surface.name!r} has not been checked: call prepare_surface first")
     if surface.kind == "sheet":
         return PartFill(surface.name, "sheet", int(subrays), None, surface_cuts(surface, x, y, z))
+    from ringprint.meshing.conformal import conformal_fractions, edge_lines
     fr = edge_fractions(surface, x, y, z, subrays)
-    return PartFill(surface.name, "solid", int(subrays), fr, surface_cuts(surface, x, y, z) if cuts else None)
+    if faces:
+        lines, face_fr = conformal_fractions(surface, x, y, z)
+    else:
+        lines, face_fr = edge_lines(surface, x, y, z), None
+    return PartFill(surface.name, "solid", int(subrays), fr,
+                    surface_cuts(surface, x, y, z) if cuts else None, lines, face_fr)
