@@ -118,7 +118,7 @@ def eps_r_max(case: Case) -> float:
 
 
 def load_surfaces(case: Case, cell: float) -> list[PartModel]:
-    """Read, place and check every part's file (CAD tessellated to about ``cell / 4``).
+    """Read, place and check every part's file (CAD triangles at most ``cell / 2``).
 
     Each file is read once, however many parts take bodies from it (an assembly).
     """
