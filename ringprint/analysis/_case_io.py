@@ -111,10 +111,12 @@ def _canonical(obj):
 
 def digest(case: Case) -> str:
     """SHA-256 of the simulation-relevant content of a case, in SI (see ``Case.digest``)."""
-    parts = []
+    parts, sha = [], {}  # an assembly file feeds many parts: hash it once
     for p in case.parts:
         eps_r, sigma, pec = case.medium(p)
-        parts.append({"name": p.name, "file_sha256": _file_sha256(p.file),
+        if p.file not in sha:
+            sha[p.file] = _file_sha256(p.file)
+        parts.append({"name": p.name, "file_sha256": sha[p.file],
                       "matrix": p.matrix().tolist(), "eps_r": eps_r,
                       "sigma": sigma, "pec": pec, "priority": p.priority})
         if p.body is not None:  # only then: digests of one-file-per-part cases stay as they were
