@@ -1,4 +1,5 @@
-"""Build the triangle meshes of the demo cases (invented scenarios) as binary STL.
+"""Build the triangle meshes of the demo cases (invented scenarios) as binary STL,
+and the STEP assembly of the one case delivered as a single CAD file.
 
     python cases/build_meshes.py            # rebuild every case's meshes, then check them
     python cases/build_meshes.py --check    # only check the committed meshes
@@ -134,7 +135,42 @@ def tag_parts():
     return parts
 
 
+def tracker_bodies():
+    """Invented pocket tracker, 44 x 44 x 10 mm, delivered as ONE STEP assembly: a metal
+    frame ring, the board ground, a coin cell, two screws and the PC housing around them."""
+    occ = gmsh.model.occ
+
+    def frame():
+        # 40 x 40 mm rounded-square ring, 1 mm wall, 3 mm tall, z = 2..5
+        outer = _rounded_box(-20.0, -20.0, 2.0, 40.0, 40.0, 3.0, 3.0, vertical_only=True)
+        inner = _rounded_box(-19.0, -19.0, 1.5, 38.0, 38.0, 4.0, 2.0, vertical_only=True)
+        return occ.cut([(3, outer)], [(3, inner)])[0][0][1]
+
+    def board_ground():
+        # 34 x 34 mm board, 0.8 mm thick, all ground, under the frame
+        return occ.addBox(-17.0, -17.0, 1.0, 34.0, 34.0, 0.8)
+
+    def coin_cell():
+        # 20 mm coin cell, 3.2 mm tall, on the board
+        return occ.addCylinder(0, 0, 2.0, 0, 0, 3.2, 10.0)
+
+    def screw(x):
+        # 1.4 mm screws, 3 mm long, beside the cell (the same product twice)
+        return lambda: occ.addCylinder(x, -13.0, 2.0, 0, 0, 3.0, 0.7)
+
+    def housing():
+        # PC housing, 44 x 44 x 10 mm, 1.2 mm wall, rounded vertical corners
+        outer = _rounded_box(-22.0, -22.0, -1.0, 44.0, 44.0, 10.0, 4.0, vertical_only=True)
+        inner = _rounded_box(-20.8, -20.8, 0.2, 41.6, 41.6, 7.6, 2.8, vertical_only=True)
+        return occ.cut([(3, outer)], [(3, inner)])[0][0][1]
+
+    return [("Frame", frame), ("Board Ground", board_ground), ("Coin Cell", coin_cell),
+            ("Screw M1.4", screw(-12.0)), ("Screw M1.4", screw(12.0)), ("Housing", housing)]
+
+
 CASES = {"wrist": wrist_parts, "tag": tag_parts}
+#: Cases whose geometry is one STEP assembly with named bodies: file name and builder.
+ASSEMBLIES = {"tracker": ("tracker.step", tracker_bodies)}
 
 
 # ------------------------------------------------------------------ meshing
@@ -331,7 +367,46 @@ def read_stl(path):
     return mesh.points.astype(np.float64), mesh.cells_dict["triangle"].astype(np.int64)
 
 
+def build_assembly(case):
+    """Write the case's bodies as one STEP file with a product name per body."""
+    from ringprint.meshing._cad import write_named_step
+
+    fname, bodies = ASSEMBLIES[case]
+    gmsh.initialize(["-noenv"])
+    gmsh.option.setNumber("General.Terminal", 0)
+    try:
+        gmsh.model.add(case)
+        tags = {build(): name for name, build in bodies()}
+        gmsh.model.occ.synchronize()
+        names = [tags[t] for _, t in gmsh.model.getEntities(3)]
+        write_named_step(HERE / case / fname, names, assembly=case)
+    finally:
+        gmsh.finalize()
+
+
+def check_assembly(case):
+    """Every body is read back under its name, as a closed solid."""
+    from ringprint.meshing import body_labels, load_parts
+
+    fname, bodies = ASSEMBLIES[case]
+    path = HERE / case / fname
+    expected = body_labels([name for name, _ in bodies()], "")  # builders are not called here
+    surfaces = load_parts(str(path), unit="mm")
+    if sorted(s.name for s in surfaces) != sorted(expected):
+        raise SystemExit(f"{case}/{fname}: bodies {[s.name for s in surfaces]}, expected {expected}")
+    for s in surfaces:
+        if s.kind != "solid" or s.volume <= 0:
+            raise SystemExit(f"{case}/{fname}: body {s.name!r} is not a closed solid")
+        print(f"{case}/{fname}: {s.name}: {s.n_triangles} triangles, volume {s.volume * 1e9:.1f} mm^3")
+    size = path.stat().st_size
+    if size > MAX_CASE_BYTES:
+        raise SystemExit(f"{case}: {fname} takes {size} bytes, more than {MAX_CASE_BYTES}")
+    print(f"{case}: {size / 1e3:.0f} kB STEP assembly")
+
+
 def build_case(case, size_max=2.5):
+    if case in ASSEMBLIES:
+        return build_assembly(case)
     gmsh.initialize(["-noenv"])
     gmsh.option.setNumber("General.Terminal", 0)
     try:
@@ -347,6 +422,8 @@ def build_case(case, size_max=2.5):
 
 
 def check_case(case):
+    if case in ASSEMBLIES:
+        return check_assembly(case)
     total = 0
     for fname, (kind, _) in CASES[case]().items():  # builders are not called here
         path = HERE / case / fname
@@ -362,11 +439,12 @@ def check_case(case):
 def main(argv=None):
     parser = argparse.ArgumentParser(description=__doc__.splitlines()[0])
     parser.add_argument("--check", action="store_true", help="only check the committed meshes")
-    parser.add_argument("cases", nargs="*", default=sorted(CASES), help="which cases (default: all)")
+    parser.add_argument("cases", nargs="*", default=sorted({**CASES, **ASSEMBLIES}),
+                        help="which cases (default: all)")
     args = parser.parse_args(argv)
     for case in args.cases:
-        if case not in CASES:
-            raise SystemExit(f"unknown case {case!r}; choose from {', '.join(sorted(CASES))}")
+        if case not in CASES and case not in ASSEMBLIES:
+            raise SystemExit(f"unknown case {case!r}; choose from {', '.join(sorted({**CASES, **ASSEMBLIES}))}")
         if not args.check:
             build_case(case)
         check_case(case)

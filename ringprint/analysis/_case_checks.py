@@ -19,7 +19,9 @@ from ringprint.errors import RingprintError
 
 __all__ = ["Checker"]
 
-ARRAY_TABLES = ("part", "band")
+ARRAY_TABLES = ("part", "band", "assembly")
+#: Arrays of tables inside an element of one of ARRAY_TABLES (``[[assembly.rule]]``).
+NESTED_ARRAYS = ("rule",)
 TABLES = ("spectrum", "probe", "grid", "analysis", "output")
 
 
@@ -49,6 +51,9 @@ class Checker:
                 label = self.labels.get(path[:2])
                 head += f" ({label!r})" if label else ""
                 rest = rest[1:]
+                if len(rest) >= 2 and rest[0] in NESTED_ARRAYS and isinstance(rest[1], int):
+                    head += f" {rest[0]} {rest[1] + 1}"
+                    rest = rest[2:]
         elif path and path[0] in TABLES:
             head, rest = f"[{path[0]}]", path[1:]
         keys = [str(k) for k in rest if not isinstance(k, int)]

@@ -60,9 +60,10 @@ def resolved_dict(case: Case) -> dict:
     sp = case.spectrum
     out["spectrum"] = {"f_min": format_frequency(sp.f_min_hz), "f_max": format_frequency(sp.f_max_hz),
                        "loss_at": format_frequency(sp.loss_at_hz)}
+    # parts made by [[assembly]] rules are written out as one [[part]] per body
     out["part"] = [{
-        "name": p.name, "file": p.file.as_posix(), "material": _material(p),
-        "translate": [length(v) for v in p.translate_m],
+        "name": p.name, "file": p.file.as_posix(), **({"body": p.body} if p.body is not None else {}),
+        "material": _material(p), "translate": [length(v) for v in p.translate_m],
         "rotate": {"axis": list(p.rotate_axis), "degrees": p.rotate_degrees},
         "scale": p.scale, "mirror": p.mirror or "none", "priority": p.priority,
     } for p in case.parts]
@@ -110,12 +111,16 @@ def _canonical(obj):
 
 def digest(case: Case) -> str:
     """SHA-256 of the simulation-relevant content of a case, in SI (see ``Case.digest``)."""
-    parts = []
+    parts, sha = [], {}  # an assembly file feeds many parts: hash it once
     for p in case.parts:
         eps_r, sigma, pec = case.medium(p)
-        parts.append({"name": p.name, "file_sha256": _file_sha256(p.file),
+        if p.file not in sha:
+            sha[p.file] = _file_sha256(p.file)
+        parts.append({"name": p.name, "file_sha256": sha[p.file],
                       "matrix": p.matrix().tolist(), "eps_r": eps_r,
                       "sigma": sigma, "pec": pec, "priority": p.priority})
+        if p.body is not None:  # only then: digests of one-file-per-part cases stay as they were
+            parts[-1]["body"] = p.body
     probe = None if case.probe is None else \
         {"at": list(case.probe.at_m), "normal": case.probe.normal, "size": case.probe.size_m}
     content = {

@@ -8,6 +8,8 @@ a key by scanning the text again. The heuristic, in order:
 2. A line whose first character (after blanks) is ``[`` at nesting depth 0 is a table
    header: ``[a.b]`` makes ``("a", "b")`` the current table, ``[[a]]`` appends an element
    to the array of tables ``a`` and makes ``("a", i)`` current (``i`` counts from 0).
+   A header inside an array of tables (``[[a.b]]`` or ``[a.c]`` after ``[[a]]``) belongs
+   to its current element: ``("a", i, "b", j)``, ``j`` counting within that element.
 3. A line ``key = ...`` or ``a.b = ...`` at nesting depth 0 records the path
    ``current table + key parts`` at that line. Lines inside a multi-line array or string
    are continuation lines and record nothing.
@@ -123,21 +125,34 @@ class KeyLines:
                 continue
             if stripped.startswith("[["):
                 name = _split_key(stripped[2:stripped.find("]]")])
-                index = counts.get(name, 0)
-                counts[name] = index + 1
-                table = name + (index,)
+                array = self._within(name[:-1], counts) + name[-1:]
+                index = counts.get(array, 0)
+                counts[array] = index + 1
+                table = array + (index,)
                 self._lines.setdefault(table, number)
-                self._lines.setdefault(name, number)
+                self._lines.setdefault(array, number)
                 continue
             if stripped.startswith("["):
                 end = stripped.find("]")
-                table = _split_key(stripped[1:end if end > 0 else None])
+                table = self._within(_split_key(stripped[1:end if end > 0 else None]), counts)
                 self._lines.setdefault(table, number)
                 continue
             scan.code_of(raw)
             match = _KEY_LINE.match(raw)
             if match:
                 self._lines.setdefault(table + _split_key(match.group(1)), number)
+
+    @staticmethod
+    def _within(name: tuple, counts: dict) -> tuple:
+        """A header's key path with the current element of each enclosing array of
+        tables: ``[[assembly.rule]]`` under the second ``[[assembly]]`` is
+        ``("assembly", 1, "rule")``."""
+        out: tuple = ()
+        for key in name:
+            out += (key,)
+            if out in counts:
+                out += (counts[out] - 1,)
+        return out
 
     def line(self, path: tuple) -> int:
         """Line of ``path``, or of its nearest recorded ancestor (1 if none)."""

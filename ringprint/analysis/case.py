@@ -24,6 +24,14 @@ unit such as ``"2.4 GHz"``)::
     scale = 1.0                         # optional
     mirror = "none"                     # optional: "x", "y", "z" (negate that coordinate)
     priority = 0                        # optional: where parts overlap, the higher wins
+    body = "Frame Left"                 # optional: only this body of a file holding several
+
+    [[assembly]]                        # optional: one file, many bodies, parts by name rules
+    file = "tag/handset.step"           # (placement keys and priority as for a part;
+    prefix = ""                         #  see ringprint.analysis.assembly for the rules)
+    [[assembly.rule]]                   # one or more, first match wins
+    match = "frame*"                    # shell-style name pattern, any case; or a list
+    material = "pec"                    # as for a part, or "skip" to leave the bodies out
 
     [[band]]                            # optional: custom bands
     name = "telemetry"
@@ -49,6 +57,7 @@ unit such as ``"2.4 GHz"``)::
     images = true                       # write mode pictures
     field_memory = 1024                 # MiB the mode fields may take (coarser lattice beyond)
 
+At least one part, from ``[[part]]`` or ``[[assembly]]``; part names are unique.
 A part's mesh coordinates (in ``units``) are scaled, then mirrored, rotated about the
 origin and translated, in that order (:meth:`Part.matrix`).
 
@@ -68,7 +77,7 @@ from pathlib import Path
 import numpy as np
 from scipy.constants import c as C0
 
-from ringprint.analysis import _case_io
+from ringprint.analysis import _case_io, assembly
 from ringprint.analysis._case_checks import Checker
 from ringprint.analysis._units import LENGTH_UNITS
 from ringprint.analysis.bands import DEFAULT_MARGIN, Band, preset_bands
@@ -77,9 +86,9 @@ from ringprint.errors import RingprintError
 
 __all__ = ["Case", "Part", "Probe", "Spectrum", "Grid", "Analysis", "Output", "load_case"]
 
-TOP_KEYS = ("title", "units", "bands", "spectrum", "part", "band", "probe", "grid",
+TOP_KEYS = ("title", "units", "bands", "spectrum", "part", "assembly", "band", "probe", "grid",
             "analysis", "output")
-AXES = ("x", "y", "z")
+AXES = assembly.AXES
 #: Default memory for the mode fields (MiB), case key output.field_memory.
 DEFAULT_FIELD_MEMORY_MB = 1024.0
 
@@ -108,6 +117,7 @@ class Part:
     scale: float = 1.0
     mirror: str | None = None      #: "x", "y", "z" or None
     priority: int = 0
+    body: str | None = None        #: the one body of ``file`` this part is; None: all of them
 
     def matrix(self) -> np.ndarray:
         """4x4 affine map from mesh-file coordinates to metres (scale, mirror, rotate, move)."""
@@ -248,7 +258,7 @@ def _build(ck: Checker, data: dict, source: Path) -> Case:
     units = ck.choice(ck.require(data, "units", ()), ("units",), LENGTH_UNITS)
     unit = LENGTH_UNITS[units]
     spectrum = _spectrum(ck, ck.require(data, "spectrum", ()))
-    parts = _parts(ck, data.get("part"), source.parent, unit)
+    parts = _parts(ck, data, source.parent, unit)
     presets, custom = _bands(ck, data)
     grid = _grid(ck, data.get("grid", {}), spectrum, unit)
     probe = _probe(ck, data["probe"], spectrum, grid, unit) if "probe" in data else None
@@ -290,52 +300,71 @@ def _spectrum(ck: Checker, table) -> Spectrum:
     return Spectrum(f_min, f_max, loss_at)
 
 
-PART_KEYS = ("name", "file", "material", "translate", "rotate", "scale", "mirror", "priority")
+PART_KEYS = ("name", "file", "material", "body") + assembly.PLACEMENT_KEYS + ("priority",)
 
 
-def _parts(ck: Checker, value, folder: Path, unit: float) -> tuple[Part, ...]:
-    if value is None or value == []:
+def _parts(ck: Checker, data: dict, folder: Path, unit: float) -> tuple[Part, ...]:
+    value, groups = data.get("part"), data.get("assembly")
+    if (value is None or value == []) and not groups:
         ck.fail(("part",), "the case has no parts; add at least one [[part]] with name, file "
-                "and material")
-    if not isinstance(value, list):
+                "and material, or an [[assembly]] with its rules")
+    if not isinstance(value, (list, type(None))):
         ck.fail(("part",), "write each part as its own [[part]] table (double brackets)")
+    if not isinstance(groups, (list, type(None))):
+        ck.fail(("assembly",), "write each assembly as its own [[assembly]] table (double brackets)")
     parts, seen = [], {}
-    for i, table in enumerate(value):
+    for i, table in enumerate(value or []):
         here = ("part", i)
         ck.label(here, table)
         ck.table(table, here, PART_KEYS)
         name = ck.string(ck.require(table, "name", here), here + ("name",))
         if name in seen:
-            ck.fail(here + ("name",), f"a part named {name!r} already exists ([[part]] "
-                    f"{seen[name] + 1}); give each part its own name")
-        seen[name] = i
+            ck.fail(here + ("name",), f"a part named {name!r} already exists ({seen[name]}); give "
+                    "each part its own name")
+        seen[name] = f"[[part]] {i + 1}"
         parts.append(_part(ck, table, here, name, folder, unit))
+    for i, table in enumerate(groups or []):
+        parts += _assembly(ck, table, ("assembly", i), folder, unit, seen)
     return tuple(parts)
 
 
 def _part(ck: Checker, table: dict, here: tuple, name: str, folder: Path, unit: float) -> Part:
-    written = ck.string(ck.require(table, "file", here), here + ("file",))
-    file = (folder / Path(written).expanduser()).resolve()
-    if not file.is_file():
-        ck.fail(here + ("file",), f"file {written!r} not found (looked for {file}); paths are "
-                "relative to the case file")
+    file = assembly.part_file(ck, table, here, folder)
+    body = None
+    if "body" in table:
+        body = ck.string(table["body"], here + ("body",))
+        names = assembly.body_names(ck, file, here + ("file",))
+        if body not in names:
+            ck.fail(here + ("body",), f"{file.name} holds no body named {body!r}; its bodies are "
+                    f"{assembly.name_list(names)}")
     material, material_name = _material(ck, ck.require(table, "material", here),
                                         here + ("material",))
-    translate = tuple(v * unit for v in ck.vector3(table.get("translate", [0, 0, 0]),
-                                                   here + ("translate",)))
-    axis, degrees = (0.0, 0.0, 1.0), 0.0
-    if "rotate" in table:
-        rot = ck.table(table["rotate"], here + ("rotate",), ("axis", "degrees"))
-        axis = ck.vector3(ck.require(rot, "axis", here + ("rotate",)), here + ("rotate", "axis"))
-        if not any(axis):
-            ck.fail(here + ("rotate", "axis"), "the rotation axis must not be [0, 0, 0]")
-        degrees = ck.number(ck.require(rot, "degrees", here + ("rotate",)),
-                            here + ("rotate", "degrees"))
-    scale = ck.positive(table.get("scale", 1.0), here + ("scale",))
-    mirror = ck.choice(table.get("mirror", "none"), here + ("mirror",), ("none",) + AXES)
+    placement = assembly.placement(ck, table, here, unit)
     priority = ck.number(table.get("priority", 0), here + ("priority",), integer=True)
-    return Part(name, file, material, material_name, unit, translate, axis, degrees, scale,
-                None if mirror == "none" else mirror, priority)
+    return Part(name, file, material, material_name, unit, **placement, priority=priority, body=body)
+
+
+def _assembly(ck: Checker, table, here: tuple, folder: Path, unit: float, seen: dict) -> list[Part]:
+    """The parts of one ``[[assembly]]`` (rules: :mod:`ringprint.analysis.assembly`)."""
+    ck.table(table, here, assembly.ASSEMBLY_KEYS)
+    file = assembly.part_file(ck, table, here, folder)
+    ck.labels[here] = file.name
+    placement = assembly.placement(ck, table, here, unit)
+    parts, materials = [], {}
+    for taken in assembly.expand(ck, table, here, file):
+        written = taken.material
+        if written == assembly.SKIP:
+            continue
+        if taken.name in seen:
+            ck.fail(taken.rule + ("match",), f"body {taken.body!r} makes a part named {taken.name!r}, "
+                    f"which already exists ({seen[taken.name]}); set prefix = \"...\" on this rule "
+                    "or the assembly, or rename the other part")
+        seen[taken.name] = f"{ck.where(here)} body {taken.body!r}"
+        if taken.rule not in materials:
+            materials[taken.rule] = _material(ck, written, taken.rule + ("material",))
+        parts.append(Part(taken.name, file, *materials[taken.rule], unit, **placement,
+                          priority=taken.priority, body=taken.body))
+    return parts
 
 
 MATERIAL_KEYS = ("name", "eps_r", "loss_tangent", "sigma", "conductor", "at")

@@ -129,14 +129,21 @@ def eps_r_max(case: Case) -> float:
 
 
 def load_surfaces(case: Case, cell: float) -> list[PartModel]:
-    """Read, place and check every part's file (CAD tessellated to about ``cell / 4``)."""
-    out = []
+    """Read, place and check every part's file (CAD triangles at most ``cell / 2``).
+
+    Each file is read once, however many parts take bodies from it (an assembly).
+    """
+    out, read = [], {}
     for part in case.parts:
+        if part.file not in read:
+            read[part.file] = meshing.read_surfaces(part.file, cell_size=cell)
+        surfaces = read[part.file]
+        if part.body is not None:
+            surfaces = meshing.pick_body(surfaces, part.body, part.file)
         rotate = (part.rotate_axis, part.rotate_degrees) if part.rotate_degrees else None
-        surfaces = meshing.load_parts(part.file, unit=_unit_name(part.file_unit_m),
-                                      conductor=part.material.is_pec, cell_size=cell,
-                                      scale=part.scale, mirror=part.mirror, rotate=rotate,
-                                      translate=part.translate_m)
+        surfaces = meshing.place_parts(surfaces, unit=_unit_name(part.file_unit_m),
+                                       conductor=part.material.is_pec, scale=part.scale,
+                                       mirror=part.mirror, rotate=rotate, translate=part.translate_m)
         if not surfaces:
             raise RingprintError(f"{part.file}: part {part.name!r} holds no surface; check the file")
         out.append(PartModel(part, surfaces))

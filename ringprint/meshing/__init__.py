@@ -9,17 +9,19 @@ from ringprint.meshing.conformal import conformal_fractions, edge_lines
 from ringprint.meshing.grid import (Grid, available_memory, cell_size, check_memory, default_padding,
                                     memory_estimate, plan_grid, thickness, warn_thin_parts)
 from ringprint.meshing.overlap import resolve_overlaps
-from ringprint.meshing.parts import load_parts
-from ringprint.meshing.read import CAD_EXTENSIONS, MESH_EXTENSIONS, read_surfaces
+from ringprint.meshing.parts import load_parts, pick_body, place_parts
+from ringprint.meshing.read import (CAD_EXTENSIONS, MESH_EXTENSIONS, body_labels, body_names,
+                                    read_surfaces)
 from ringprint.meshing.surface import Surface, signed_volume
 from ringprint.meshing.transform import UNITS, rotation_matrix, transform_surface, unit_scale
 from ringprint.meshing.voxelize import (EdgeBox, PartFill, dual_nodes, edge_fractions, surface_cuts,
                                         voxelize)
 
 __all__ = [
-    "CAD_EXTENSIONS", "EdgeBox", "conformal_fractions", "edge_lines", "Grid", "HOLE_FRACTION", "MESH_EXTENSIONS", "MeshingWarning",
-    "PartFill", "Surface", "UNITS", "available_memory", "load_parts", "cell_size", "check_memory",
-    "default_padding", "dual_nodes", "edge_fractions", "memory_estimate", "plan_grid",
+    "CAD_EXTENSIONS", "EdgeBox", "Grid", "HOLE_FRACTION", "MESH_EXTENSIONS", "MeshingWarning",
+    "PartFill", "Surface", "UNITS", "available_memory", "body_labels", "body_names", "cell_size",
+    "check_memory", "conformal_fractions", "default_padding", "dual_nodes", "edge_fractions",
+    "edge_lines", "load_parts", "memory_estimate", "pick_body", "place_parts", "plan_grid",
     "prepare_surface", "read_surfaces", "resolve_overlaps", "rotation_matrix", "signed_volume",
     "surface_cuts", "thickness", "transform_surface", "unit_scale", "voxelize", "warn_thin_parts",
 ]

@@ -18,6 +18,58 @@ MESH_EXTENSIONS = (".stl", ".obj", ".ply", ".off", ".vtk", ".vtu", ".msh")
 CAD_EXTENSIONS = (".step", ".stp", ".iges", ".igs")
 
 
+def body_labels(names, stem):
+    """Unique body names: ``names`` as read ('' where the file gives none), in file order.
+
+    An unnamed body is called ``STEM:K`` (K its 1-based position in the file), or just
+    the stem when it is the file's only body. Names given more than once get ``:1``,
+    ``:2``, ... in file order (an assembly holding one product several times: screws).
+    """
+    raw = [n.strip() or (stem if len(names) == 1 else f"{stem}:{k}") for k, n in enumerate(names, 1)]
+    counts = {n: raw.count(n) for n in raw}
+    out, taken, seen = [], set(n for n in raw if counts[n] == 1), {}
+    for n in raw:
+        if counts[n] > 1:
+            k = seen.get(n, 0) + 1
+            while f"{n}:{k}" in taken:
+                k += 1
+            seen[n] = k
+            n = f"{n}:{k}"
+        taken.add(n)
+        out.append(n)
+    return out
+
+
+def _check_path(path):
+    ext = os.path.splitext(path)[1].lower()
+    if ext not in MESH_EXTENSIONS + CAD_EXTENSIONS:
+        raise RingprintError(f"{path}: unknown file extension {ext or '(none)'!r}; "
+                             f"use one of {' '.join(MESH_EXTENSIONS + CAD_EXTENSIONS)}")
+    if not os.path.isfile(path):
+        raise RingprintError(f"{path}: no such file; check the path in the case file")
+    if os.path.getsize(path) == 0:
+        raise RingprintError(f"{path}: the file is empty; export the part again")
+    return ext
+
+
+def body_names(path):
+    """Names of the bodies of a mesh or CAD file, as :func:`read_surfaces` gives them.
+
+    CAD files are only imported, not tessellated (cheap enough to run while a case file
+    is read); mesh files are read whole.
+
+    Raises
+    ------
+    RingprintError
+        As :func:`read_surfaces`.
+    """
+    path = os.fspath(path)
+    if _check_path(path) in CAD_EXTENSIONS:
+        from ringprint.meshing._cad import cad_body_names
+        return cad_body_names(path)
+    return [s.name for s in read_surfaces(path)]
+
+
 def read_surfaces(path, cell_size=None):
     """Read every body of a mesh or CAD file as triangle surfaces.
 
@@ -35,9 +87,9 @@ def read_surfaces(path, cell_size=None):
     -------
     list of Surface
         One per body, named from the file where the format carries names (ASCII STL
-        ``solid`` names, Gmsh physical groups, STEP/IGES labels), else from the file
-        stem. Mesh-file coordinates are in the file's own unit (``file_unit`` None:
-        the caller says which); CAD coordinates are in millimetres converted from the
+        ``solid`` names, Gmsh physical groups, STEP product names), else from the file
+        stem (:func:`body_labels`; names are unique within the file). Mesh-file
+        coordinates are in the file's own unit (``file_unit`` None: the caller says which); CAD coordinates are in millimetres converted from the
         file's own unit (``file_unit`` "mm"); :func:`transform_surface` makes metres.
 
     Raises
@@ -47,14 +99,7 @@ def read_surfaces(path, cell_size=None):
         without solids, a mesh without triangles.
     """
     path = os.fspath(path)
-    ext = os.path.splitext(path)[1].lower()
-    if ext not in MESH_EXTENSIONS + CAD_EXTENSIONS:
-        raise RingprintError(f"{path}: unknown file extension {ext or '(none)'!r}; "
-                             f"use one of {' '.join(MESH_EXTENSIONS + CAD_EXTENSIONS)}")
-    if not os.path.isfile(path):
-        raise RingprintError(f"{path}: no such file; check the path in the case file")
-    if os.path.getsize(path) == 0:
-        raise RingprintError(f"{path}: the file is empty; export the part again")
+    ext = _check_path(path)
     if ext in CAD_EXTENSIONS:
         from ringprint.meshing._cad import read_cad
         return read_cad(path, cell_size)
@@ -112,8 +157,9 @@ def _read_stl(path):
     # meshio's ASCII reader needs the strict 7-lines-per-facet layout and one solid;
     # exporters vary (blank lines, several named solids), so take the vertices here.
     stem = os.path.splitext(os.path.basename(path))[0]
+    labels = body_labels([name for name, _ in blocks], stem)
     surfaces = []
-    for k, (name, body) in enumerate(blocks):
+    for (name, body), label in zip(blocks, labels):
         words = re.findall(r"\bvertex\s+(\S+)\s+(\S+)\s+(\S+)", body, flags=re.I)
         try:
             pts = np.array(words, dtype=np.float64).reshape(-1, 3)
@@ -123,7 +169,6 @@ def _read_stl(path):
         if len(pts) % 3:
             raise RingprintError(f"{path}: ASCII STL solid {name.strip()!r} has {len(pts)} vertices, "
                                  "not a multiple of 3; the file is truncated, export it again")
-        label = name.strip() or (stem if len(blocks) == 1 else f"{stem}:{k}")
         surfaces.append(Surface(name=label, vertices=pts,
                                 faces=np.arange(len(pts), dtype=np.int64).reshape(-1, 3), source=path))
     return surfaces

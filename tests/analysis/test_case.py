@@ -305,3 +305,53 @@ def test_key_lines_heuristic():
     assert lines.line(("part", 1, "quoted key")) == 14
     assert lines.line(("part", 1, "a", "b")) == 15
     assert lines.line(("part", 1)) == 13 and lines.line(("nothing",)) == 1
+
+
+def test_key_lines_nested_array_tables():
+    """[[a.b]] belongs to the current [[a]] element and counts within it; a [a.c]
+    sub-table likewise (the [[assembly.rule]] and [part.rotate] layouts)."""
+    text = (
+        "[[assembly]]\n"                       # 1
+        'file = "a.step"\n'                    # 2
+        "[[assembly.rule]]\n"                  # 3
+        'match = "x"\n'                        # 4
+        "[[assembly.rule]]\n"                  # 5
+        'match = ["y", "z"]\n'                 # 6
+        "[[assembly]]\n"                       # 7
+        "[[assembly.rule]]\n"                  # 8
+        'material = "pec"\n'                   # 9
+        "[[part]]\n"                           # 10
+        "[part.rotate]\n"                      # 11
+        "degrees = 90\n"                       # 12
+    )
+    data = tomllib.loads(text)
+    assert data["assembly"][1]["rule"][0]["material"] == "pec"  # the layout the paths mirror
+    lines = KeyLines(text)
+    assert lines.line(("assembly", 0, "file")) == 2
+    assert lines.line(("assembly", 0, "rule", 0, "match")) == 4
+    assert lines.line(("assembly", 0, "rule", 1, "match", 1)) == 6
+    assert lines.line(("assembly", 1, "rule", 0, "material")) == 9
+    assert lines.line(("assembly", 1, "rule", 0)) == 8 and lines.line(("assembly", 1)) == 7
+    assert lines.line(("part", 0, "rotate", "degrees")) == 12
+
+
+def test_assembly_and_part_together(tmp_path):
+    """[[part]] and [[assembly]] in one case; the assembly alone is enough; the bad
+    cases (rules matching nothing, unmatched bodies, taken names) are corpus files."""
+    shutil.copy(CORPUS / "parts" / "handset.step", tmp_path / "handset.step")
+    head = EXAMPLE.split("[[part]]")[0]
+    rules = ('[[assembly]]\nfile = "handset.step"\n[[assembly.rule]]\nmatch = "*"\n'
+             'material = "pec"\n')
+    path = write_case(tmp_path, head + rules)
+    assert [p.name for p in load_case(path).parts] == ["Frame Left", "Frame Right", "Shield Can",
+                                                       "Battery"]
+    path = write_case(tmp_path, EXAMPLE.replace("[[band]]", rules + "[[band]]", 1))
+    names = [p.name for p in load_case(path).parts]
+    assert names == ["ground plane", "housing", "Frame Left", "Frame Right", "Shield Can", "Battery"]
+
+
+def test_tracker_demo_case_loads():
+    """The demo assembly: six bodies, the two screws skipped by their rule."""
+    case = load_case(Path(__file__).resolve().parents[2] / "cases" / "tracker" / "case.toml")
+    assert [(p.name, p.material.is_pec) for p in case.parts] == [
+        ("Frame", True), ("Board Ground", True), ("Coin Cell", True), ("Housing", False)]

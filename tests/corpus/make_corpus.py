@@ -1,4 +1,5 @@
-"""Write the corpus of bad part files under tests/corpus/meshes/ (committed output).
+"""Write the corpus of bad part files under tests/corpus/meshes/ (committed output),
+and the good STEP assembly that the [[assembly]] cases of tests/corpus/cases/ use.
 
 Each file goes with an entry in meshes/expected.json: the keyword arguments to load
 it with (``unit``, ``conductor``) and a fragment the one-line RingprintError must
@@ -47,6 +48,24 @@ def _step_without_solids(path):
         gmsh.finalize()
 
 
+def _assembly_step(path):
+    """A four-body STEP assembly for the [[assembly]] cases of ../cases (boxes, mm)."""
+    import gmsh
+
+    from ringprint.meshing._cad import write_named_step
+
+    gmsh.initialize(readConfigFiles=False, interruptible=False)
+    try:
+        gmsh.option.setNumber("General.Terminal", 0)
+        gmsh.model.add("handset")
+        for x, y, dx, dy in ((0, 0, 40, 2), (0, 20, 40, 2), (10, 5, 10, 10), (25, 5, 10, 10)):
+            gmsh.model.occ.addBox(x, y, 0, dx, dy, 3)
+        gmsh.model.occ.synchronize()
+        write_named_step(path, ["Frame Left", "Frame Right", "Shield Can", "Battery"], "Handset")
+    finally:
+        gmsh.finalize()
+
+
 def main():
     os.makedirs(HERE, exist_ok=True)
     rng = np.random.default_rng(20240601)
@@ -73,6 +92,7 @@ def main():
         expected[name] = {"kwargs": kwargs, "message_contains": fragment}
     _step_without_solids(os.path.join(HERE, "no_solids.step"))
     expected["no_solids.step"] = {"kwargs": {}, "message_contains": "no solid bodies"}
+    _assembly_step(os.path.join(os.path.dirname(HERE), "cases", "parts", "handset.step"))
     with open(os.path.join(HERE, "expected.json"), "w") as fh:
         json.dump(expected, fh, indent=1, sort_keys=True)
         fh.write("\n")
