@@ -56,7 +56,7 @@ from ringprint.errors import RingprintError
 #: Smallest time-step factor the conformal faces may force (faces needing less are enlarged).
 MIN_STEP_FACTOR = 0.8
 #: Rounds of area enlargement (each raises a face's area by its excess row sum).
-ENLARGE_ROUNDS = 8
+ENLARGE_ROUNDS = 12
 #: Fractions within this of 1 count as uncut.
 _TOL = 1e-6
 
@@ -233,7 +233,7 @@ def conformal_faces(grid, free_length, free_area, min_step_factor: float = MIN_S
             over = r > cap * (1.0 + 1e-9)
             if over.any():
                 sel = tuple(v[over] for v in idx)
-                areas[h][sel] = np.minimum(1.0, areas[h][sel] * (r[over] / cap))
+                areas[h][sel] = np.minimum(1.0, areas[h][sel] * (1.05 * r[over] / cap))
                 enlarged[n] |= over
                 changed = True
         if not changed:
