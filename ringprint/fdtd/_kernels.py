@@ -198,7 +198,7 @@ def _h_conformal(i, f, ch, ih, cf, wn, wc, en):
     """Dey-Mittra update of the cut H faces on plane i (after the plain rows).
 
     The plain row gave ``H - c curl E``; a cut face wants ``H - c g curl(l E)`` with
-    the free edge fractions l and ``g = 1 / free area`` (0 holds H), so the
+    the free edge fractions l and ``g = 1 / free area`` (0: no free area, H = 0), so the
     difference ``c (curl E - g curl(l E))`` is added back. E on planes i and i+1 is
     still E^n here (the fused sweep updates E on plane i after this).
 
@@ -226,6 +226,10 @@ def _h_conformal(i, f, ch, ih, cf, wn, wc, en):
         plain = (p1 - p0) * sp - (q1 - q0) * sq
         cut = ((ln[n, 1] * p1 - ln[n, 0] * p0) * sp - (ln[n, 3] * q1 - ln[n, 2] * q0) * sq) * gi
         d = ch * (plain - cut)
+        if gi == 0.0:  # no free area: the face is metal, its H is set to zero
+            d = now_of(c, hx, hy, hz, i, j, k)
+            if c != 1:
+                d = -d
         if c == 0:
             now = hx[i, j, k]
             hx[i, j, k] = now + d
@@ -247,6 +251,16 @@ def _h_conformal(i, f, ch, ih, cf, wn, wc, en):
             acc += np.float64(w) * (area * np.float64(old) * np.float64(new)
                                     - np.float64(old) * np.float64(now))
     return acc
+
+
+@njit(cache=True, inline="always")
+def now_of(c, hx, hy, hz, i, j, k):
+    """The current value of face (i, j, k) of H component c."""
+    if c == 0:
+        return hx[i, j, k]
+    if c == 1:
+        return hy[i, j, k]
+    return hz[i, j, k]
 
 
 @njit(cache=True)
