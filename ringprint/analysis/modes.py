@@ -106,6 +106,7 @@ def mode_table(res, rows, probe_row: int, radius_m: float, bands, margin: float)
             "amplitude": float(at_probe[k]) if np.isfinite(at_probe[k]) else 0.0,
             "visibility": vis,
             "error": float(r.error),
+            "fit_error": float(r.error),
             "confidence": _confidence(r.error, vis),
             "q_chu": float(q_chu[k]) if np.isfinite(q_chu[k]) else None,
             "q_over_chu": float(q[k] / q_chu[k]) if np.isfinite(q_chu[k]) else None,
