@@ -30,7 +30,8 @@ from ringprint.analysis.modes import find_resonances, mode_table
 from ringprint.analysis.outputs import RunLogHandler, atomic_write_text, prepare_output_dir
 from ringprint.analysis.report import format_summary_table, write_results
 from ringprint.analysis.results import q_text
-from ringprint.analysis.uncertainty import GRID_RATIO, CoarseRun, annotate, check_grid_study
+from ringprint.analysis.grid_study import CoarseRun, annotate
+from ringprint.analysis.uncertainty import GRID_RATIO, check_grid_study
 from ringprint.errors import RingprintError
 
 log = logging.getLogger("ringprint.run")

@@ -232,3 +232,69 @@ def test_printed_frequency_reads_back_within_its_uncertainty(hz, rel):
     scale = {"GHz": 1e9, "MHz": 1e6, "kHz": 1e3, "Hz": 1.0}[unit]
     assert abs(float(value) * scale - hz) < rel * hz
     assert float(unc) * scale >= rel * hz * (1 - 1e-9)
+
+
+# -- applying it to a mode table -------------------------------------------------------
+
+def _fake_model(cell=1e-3, cells=20.0):
+    """The little of a Model the annotation reads: one dielectric part 24 mm long on a
+    uniform grid of ``cell``."""
+    from types import SimpleNamespace as NS
+
+    axis = np.arange(-40, 41) * cell
+    surface = NS(bounds=(np.array([-12e-3, -5e-3, -5e-3]), np.array([12e-3, 5e-3, 5e-3])))
+    part = NS(name="puck", surfaces=[surface], is_conductor=False, part="puck")
+    case = NS(grid=NS(cells_per_wavelength=cells), medium=lambda _p: (9.0, 0.0, False))
+    return NS(parts=[part], grid=NS(axes=(axis, axis, axis), cell=cell), case=case)
+
+
+def _modes(f, q, err=1e-7):
+    return [{"index": k + 1, "frequency_hz": fk, "q": qk, "error": err} for k, (fk, qk)
+            in enumerate(zip(f, q))]
+
+
+def test_annotate_three_grids_observes_the_order_and_leaves_a_lonely_mode():
+    """Two modes following f(h) = f0 (1 + C h^1.7) on three grids (ratio 1.3): the first is
+    matched through both coarser runs, gets the observed order 1.7 (Celik et al. 2008),
+    safety 1.25 and the exact limit (Roache 1994); a third mode with no partner keeps the
+    stated bound and is listed as unmatched with the reason."""
+    from ringprint.analysis.grid_study import CoarseRun, annotate
+
+    h, r, p = 1e-3, 1.3, 1.7
+    f0, q0 = np.array([2.0e9, 3.0e9]), np.array([40.0, 90.0])
+
+    def law(level):
+        g = (h * r ** level) ** p * 3e2               # 2 % at h, a relative error ~ h^1.7
+        return f0 * (1 + g), q0 * (1 - 2 * g)
+
+    f1, q1 = law(0)
+    modes = _modes(list(f1) + [4.0e9], list(q1) + [30.0])
+    coarse = [CoarseRun(20.0 / r ** k, h * r ** k, *law(k), np.zeros(2), 100) for k in (1, 2)]
+    block = annotate(modes, _fake_model(), 0.5e-3 / C0, coarse)
+    study = block["grid_study"]
+    assert block["basis"] == "grid study" and study["matched"] == [1, 2]
+    assert study["unmatched"][0]["mode"] == 3 and study["unmatched"][0]["reason"].startswith("no mode")
+    for k in (0, 1):
+        m = modes[k]
+        assert m["uncertainty_basis"] == "grid study" and m["grid_order"] == pytest.approx(p, rel=1e-6)
+        assert m["frequency_extrapolated_hz"] == pytest.approx(f0[k], rel=1e-12)
+        assert m["q_extrapolated"] == pytest.approx(q0[k], rel=1e-10)
+        # GCI with safety 1.25 on the exact error, plus the fit term e f in quadrature
+        expect = math.hypot(1.25 * (f1[k] - f0[k]), 1e-7 * f1[k])
+        assert m["frequency_uncertainty_hz"] == pytest.approx(expect, rel=1e-6)
+    lonely = modes[2]
+    assert lonely["uncertainty_basis"] == "stated bound" and lonely["frequency_extrapolated_hz"] is None
+    assert lonely["frequency_uncertainty_hz"] > 0 and lonely["fit_error"] == 1e-7
+
+
+def test_annotate_without_a_study_gives_every_mode_the_stated_bound():
+    from ringprint.analysis.grid_study import annotate
+
+    modes = _modes([2.0e9], [40.0])
+    block = annotate(modes, _fake_model(), 0.5e-3 / C0)
+    assert block["basis"] == "stated bound" and block["grid_study"] is None
+    assert "not a bound proven for every geometry" in block["stated_bound"]
+    # dielectric term 0.8 % x 12 / 24 cells + Yee dispersion at 50 cells per wavelength
+    # (c / (2 GHz x 3 x 1 mm)) with S = 0.5, plus the fit error in quadrature
+    rel = 0.008 * 12 / 24 + abs(un.yee_dispersion_error(C0 / (2e9 * 3 * 1e-3), 0.5))
+    assert modes[0]["frequency_uncertainty_hz"] == pytest.approx(math.hypot(rel * 2e9, 200.0), rel=1e-9)
