@@ -25,12 +25,12 @@ from ringprint.analysis import placement, ringdown
 from ringprint.analysis.bounds import enclosing_sphere
 from ringprint.analysis.case import load_case
 from ringprint.analysis.field_stage import check_budget, field_section, remove_stale, run_field_stage
+from ringprint.analysis.grid_study import CoarseRun, annotate
 from ringprint.analysis.model import build_model
 from ringprint.analysis.modes import find_resonances, mode_table
 from ringprint.analysis.outputs import RunLogHandler, atomic_write_text, prepare_output_dir
 from ringprint.analysis.report import format_summary_table, write_results
 from ringprint.analysis.results import q_text
-from ringprint.analysis.grid_study import CoarseRun, annotate
 from ringprint.analysis.uncertainty import GRID_RATIO, check_grid_study
 from ringprint.errors import RingprintError
 
@@ -183,7 +183,7 @@ def run_case(case_path, out_dir=None, resume: bool = False, progress: bool | Non
                                     case.analysis.detuning_margin)
         notes = list(model.warnings)
         coarse = []
-        for level in range(1, grids):
+        for level in range(1, grids if modes else 1):       # nothing to compare without modes
             bar.at(0.9, "grid check")
             coarse.append(coarse_run(case, level, allow_memory))
         uncertainty = annotate(modes, model, ring.dt, coarse)
