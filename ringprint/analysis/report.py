@@ -325,6 +325,8 @@ def _uncertainty_section(summary: Mapping) -> str:
         notes.append(f"Grid study: cells per wavelength {grids} (ratio {study['ratio']:.3g}); "
                      f"{study['method']}; order {study['order_reason']}; safety factor "
                      f"{study['safety_factor']}. Extrapolated: the Richardson value.")
+        if study.get("floor"):
+            notes.append(f"Grid uncertainty here: {study['floor']}.")
         notes += [f"Mode {u['mode']} kept the stated bound: {u['reason']}." for u in study["unmatched"]]
     if block.get("stated_bound") and any(m.get("uncertainty_basis") == "stated bound" for m in modes):
         notes.append(f"Stated bound: {block['stated_bound']}. Set grid_check = true under "

@@ -298,3 +298,27 @@ def test_annotate_without_a_study_gives_every_mode_the_stated_bound():
     # (c / (2 GHz x 3 x 1 mm)) with S = 0.5, plus the fit error in quadrature
     rel = 0.008 * 12 / 24 + abs(un.yee_dispersion_error(C0 / (2e9 * 3 * 1e-3), 0.5))
     assert modes[0]["frequency_uncertainty_hz"] == pytest.approx(math.hypot(rel * 2e9, 200.0), rel=1e-9)
+
+
+def test_staircased_metal_keeps_at_least_the_stated_bound():
+    """With metal (order 1, staircased) two grids that barely differ do not shrink the
+    uncertainty below the stated bound (grid_study.STAIRCASE_FLOOR); the Richardson value
+    is still reported (f1 + (f1 - f2) / (1.3 - 1), Roache 1994)."""
+    from ringprint.analysis.grid_study import CoarseRun, annotate
+
+    model = _fake_model()
+    model.parts[0].is_conductor = True
+    f1, f2 = 2.0e9, 2.0002e9
+    stated = _modes([f1], [40.0])
+    annotate(stated, model, 0.5e-3 / C0)
+    modes = _modes([f1], [40.0])
+    block = annotate(modes, model, 0.5e-3 / C0,
+                     [CoarseRun(20 / 1.3, 1.3e-3, np.array([f2]), np.array([40.1]), np.zeros(1))])
+    m = modes[0]
+    assert block["grid_study"]["stated_order"] == 1.0 and block["grid_study"]["floor"]
+    assert m["uncertainty_basis"] == "grid study"
+    assert m["frequency_extrapolated_hz"] == pytest.approx(f1 + (f1 - f2) / 0.3, rel=1e-12)
+    assert m["frequency_uncertainty_hz"] == stated[0]["frequency_uncertainty_hz"]
+    assert m["q_uncertainty"] == stated[0]["q_uncertainty"]
+    # the GCI alone (3 x 0.2 MHz / 0.3 = 2 MHz) is far below the stated bound here
+    assert 3 * abs(f1 - f2) / 0.3 < 0.5 * m["frequency_uncertainty_hz"]
