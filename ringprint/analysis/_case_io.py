@@ -78,7 +78,8 @@ def resolved_dict(case: Case) -> dict:
                    "padding": length(case.grid.padding_m),
                    "absorber_cells": case.grid.absorber_cells}
     out["analysis"] = {"q_max": case.analysis.q_max,
-                       "detuning_margin": case.analysis.detuning_margin}
+                       "detuning_margin": case.analysis.detuning_margin,
+                       "grid_check": case.analysis.grid_check or False}
     out["output"] = {"fields": case.output.fields, "images": case.output.images,
                      "field_memory": case.output.field_memory_bytes / 2.0 ** 20}
     return out

@@ -51,6 +51,9 @@ unit such as ``"2.4 GHz"``)::
     [analysis]                          # optional
     q_max = 200                         # highest Q to resolve (>= 1)
     detuning_margin = 0.03              # fraction; see ringprint.analysis.bands
+    grid_check = false                  # true: run again on a coarser grid for each mode's
+                                        # grid uncertainty; 3: on two coarser grids
+                                        # (ringprint.analysis.uncertainty)
 
     [output]                            # optional
     fields = true                       # write per-mode field files
@@ -82,6 +85,7 @@ from ringprint.analysis._case_checks import Checker
 from ringprint.analysis._units import LENGTH_UNITS
 from ringprint.analysis.bands import DEFAULT_MARGIN, Band, preset_bands
 from ringprint.analysis.materials import Material, conversion_frequency, get_material
+from ringprint.analysis.uncertainty import check_grid_study
 from ringprint.errors import RingprintError
 
 __all__ = ["Case", "Part", "Probe", "Spectrum", "Grid", "Analysis", "Output", "load_case"]
@@ -155,10 +159,12 @@ class Grid:
 
 @dataclass(frozen=True)
 class Analysis:
-    """The highest Q to resolve (sets the record length) and the detuning margin (fraction)."""
+    """The highest Q to resolve (sets the record length), the detuning margin (fraction)
+    and the number of grids of the grid study (0: none, 2 or 3)."""
 
     q_max: float
     detuning_margin: float
+    grid_check: int = 0
 
 
 @dataclass(frozen=True)
@@ -262,13 +268,15 @@ def _build(ck: Checker, data: dict, source: Path) -> Case:
     presets, custom = _bands(ck, data)
     grid = _grid(ck, data.get("grid", {}), spectrum, unit)
     probe = _probe(ck, data["probe"], spectrum, grid, unit) if "probe" in data else None
-    table = ck.table(data.get("analysis", {}), ("analysis",), ("q_max", "detuning_margin"))
+    table = ck.table(data.get("analysis", {}), ("analysis",),
+                     ("q_max", "detuning_margin", "grid_check"))
     analysis = Analysis(
         q_max=ck.number(table.get("q_max", 200.0), ("analysis", "q_max"), low=1.0,
                         hint="Q below 1 is not a resonance"),
         detuning_margin=ck.number(table.get("detuning_margin", DEFAULT_MARGIN),
                                   ("analysis", "detuning_margin"), low=0.0, high=1.0,
-                                  high_open=True, hint="a fraction: write 0.03 for 3 %"))
+                                  high_open=True, hint="a fraction: write 0.03 for 3 %"),
+        grid_check=_grid_check(ck, table.get("grid_check", False), grid))
     table = ck.table(data.get("output", {}), ("output",), ("fields", "images", "field_memory"))
     output = Output(fields=ck.boolean(table.get("fields", True), ("output", "fields")),
                     images=ck.boolean(table.get("images", True), ("output", "images")),
@@ -436,6 +444,20 @@ def _grid(ck: Checker, table, spectrum: Spectrum, unit: float) -> Grid:
     absorber = ck.number(table.get("absorber_cells", 10), ("grid", "absorber_cells"),
                          low=4, integer=True, hint="4-16 cells is common practice")
     return Grid(float(cells), padding, absorber)
+
+
+def _grid_check(ck: Checker, value, grid: Grid) -> int:
+    """``grid_check``: false (0), true (2 grids) or 3; the coarsest grid must stay usable."""
+    if isinstance(value, bool):
+        grids = 2 if value else 0
+    elif isinstance(value, int) and value in (2, 3):
+        grids = value
+    else:
+        ck.fail(("analysis", "grid_check"), f"expected true, false or 3 (grids), got {value!r}")
+    problem = check_grid_study(grid.cells_per_wavelength, grids)
+    if problem:
+        ck.fail(("analysis", "grid_check"), problem)
+    return grids
 
 
 def _probe(ck: Checker, table, spectrum: Spectrum, grid: Grid, unit: float) -> Probe:

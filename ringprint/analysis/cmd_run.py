@@ -3,7 +3,8 @@ it against the operating bands.
 
 Meshes the parts, rings them with a small loop probe in the FDTD solver, fits the
 ring-down by filter diagonalization, runs the ring-down again to take every mode's
-field, and writes modes.json, modes.csv, spectrum.png, report.html, fields.h5,
+field (on request also on a coarser grid, for each mode's grid uncertainty), and writes
+modes.json, modes.csv, spectrum.png, report.html, fields.h5,
 mode_NN.vti, case.resolved.toml and run.log into the output directory (each file
 appears only when complete). A long run leaves a checkpoint every few minutes;
 --resume continues a killed run from it.
@@ -29,6 +30,10 @@ def add_arguments(parser: argparse.ArgumentParser) -> None:
     parser.add_argument("--no-fields", action="store_true",
                         help="skip the mode fields (the second pass, which part rings, touch maps, "
                              "fields.h5 and mode_NN.vti): about half the run time")
+    parser.add_argument("--grid-check", nargs="?", type=int, const=2, choices=(2, 3), metavar="GRIDS",
+                        help="run the case again on a grid 1.3 times coarser (GRIDS 3: also 1.3^2) "
+                             "and give each mode's frequency and Q the grid uncertainty of the "
+                             "Grid Convergence Index; overrides [analysis] grid_check")
     parser.add_argument("--ignore-memory-check", action="store_true",
                         help="run even when the memory estimate exceeds the memory available")
 
@@ -41,5 +46,5 @@ def run(args: argparse.Namespace) -> int:
              checkpoint_every_s=60.0 * args.checkpoint_minutes,
              allow_memory=args.ignore_memory_check,
              echo=None if args.quiet else print,
-             fields=False if args.no_fields else None)
+             fields=False if args.no_fields else None, grid_check=args.grid_check)
     return 0

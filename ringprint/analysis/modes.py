@@ -14,7 +14,10 @@ Rules (the report cites them):
 - **Strength**: ``amplitude`` is the mode's amplitude in the probe's own EMF record
   relative to the strongest mode there (1 = the strongest); ``visibility`` is the
   same ratio taken in the pickup that sees the mode best.
-- **Confidence**: ``high`` when the relative error is below 1e-4 and the mode is
+- **Fit error**: ``error`` (kept under this name) and ``fit_error`` are the inversion's
+  own relative error of the complex frequency; the uncertainty that includes the grid
+  is added by :mod:`ringprint.analysis.grid_study`.
+- **Confidence**: ``high`` when the relative fit error is below 1e-4 and the mode is
   visible above 1e-3 somewhere, ``medium`` when the error is below 1e-2, else ``low``.
 - **Chu bound**: ``q_chu = 1/(ka)^3 + 1/(ka)`` with ``a`` the radius of the smallest
   sphere enclosing the whole assembly (Chu 1948; McLean 1996). The bound limits the
@@ -106,6 +109,7 @@ def mode_table(res, rows, probe_row: int, radius_m: float, bands, margin: float)
             "amplitude": float(at_probe[k]) if np.isfinite(at_probe[k]) else 0.0,
             "visibility": vis,
             "error": float(r.error),
+            "fit_error": float(r.error),
             "confidence": _confidence(r.error, vis),
             "q_chu": float(q_chu[k]) if np.isfinite(q_chu[k]) else None,
             "q_over_chu": float(q[k] / q_chu[k]) if np.isfinite(q_chu[k]) else None,

@@ -3,12 +3,16 @@
 Stages: read and validate the case; mesh it (:mod:`ringprint.analysis.model`);
 place the probe and pickups (:mod:`~ringprint.analysis.placement`); ring it
 (:mod:`~ringprint.analysis.ringdown`); invert the ring-down and judge the modes
-(:mod:`~ringprint.analysis.modes`); write the results
-(:mod:`~ringprint.analysis.report`). A killed run continues with ``resume=True``.
+(:mod:`~ringprint.analysis.modes`); on request run the case again on one or two
+coarser grids and give each mode its grid uncertainty, else the stated bound
+(:mod:`~ringprint.analysis.uncertainty`); write the results
+(:mod:`~ringprint.analysis.report`). A killed run continues with ``resume=True`` (the
+coarser runs are short and are run again from the start).
 """
 
 from __future__ import annotations
 
+import dataclasses
 import logging
 import sys
 import time
@@ -21,10 +25,14 @@ from ringprint.analysis import placement, ringdown
 from ringprint.analysis.bounds import enclosing_sphere
 from ringprint.analysis.case import load_case
 from ringprint.analysis.field_stage import check_budget, field_section, remove_stale, run_field_stage
+from ringprint.analysis.grid_study import CoarseRun, annotate
 from ringprint.analysis.model import build_model
 from ringprint.analysis.modes import find_resonances, mode_table
 from ringprint.analysis.outputs import RunLogHandler, atomic_write_text, prepare_output_dir
 from ringprint.analysis.report import format_summary_table, write_results
+from ringprint.analysis.results import q_text
+from ringprint.analysis.uncertainty import GRID_RATIO, check_grid_study
+from ringprint.errors import RingprintError
 
 log = logging.getLogger("ringprint.run")
 
@@ -80,9 +88,26 @@ def _grid_summary(model) -> dict:
             "origin_m": [float(g.x[0]), float(g.y[0]), float(g.z[0])]}
 
 
+def coarse_run(case, level: int, allow_memory: bool = False) -> CoarseRun:
+    """The case run on a grid ``GRID_RATIO ** level`` times coarser (no checkpoints, no
+    fields): the modes the grid study compares with the main run's."""
+    cells = case.grid.cells_per_wavelength / GRID_RATIO ** level
+    coarse = dataclasses.replace(case, grid=dataclasses.replace(case.grid, cells_per_wavelength=cells))
+    model = build_model(coarse, allow_memory=allow_memory)
+    sim = ringdown.build_simulation(model, placement.place_probe(model), placement.pickup_points(model))
+    ring = ringdown.ring(model, sim)
+    res, _rows = find_resonances(ring, case.spectrum.f_min_hz, case.spectrum.f_max_hz)
+    log.info("grid check: cells per wavelength %.4g, cell %.4g m, %d steps, %d modes, %.1f s",
+             cells, model.grid.cell, ring.steps, len(res), ring.wall_time_s)
+    return CoarseRun(cells, float(model.grid.cell), np.array([r.frequency_hz for r in res], float),
+                     np.array([r.q for r in res], float), np.array([r.error for r in res], float),
+                     int(ring.steps))
+
+
 def run_case(case_path, out_dir=None, resume: bool = False, progress: bool | None = None,
              checkpoint_every_s: float = 300.0, allow_memory: bool = False,
-             halt_after_steps: int | None = None, echo=print, fields: bool | None = None) -> dict:
+             halt_after_steps: int | None = None, echo=print, fields: bool | None = None,
+             grid_check: int | None = None) -> dict:
     """Run one case end to end and write its results; returns the modes.json summary.
 
     Parameters
@@ -106,9 +131,16 @@ def run_case(case_path, out_dir=None, resume: bool = False, progress: bool | Non
     fields : bool or None
         Compute the mode fields (second pass, participation, touch maps, fields.h5,
         mode_NN.vti); None: as the case's ``output.fields`` says.
+    grid_check : int or None
+        Grids of the grid study (0: none, 2 or 3); None: as the case's
+        ``analysis.grid_check`` says.
     """
     t_start = time.perf_counter()
     case = load_case(case_path)
+    grids = case.analysis.grid_check if grid_check is None else int(grid_check)
+    problem = check_grid_study(case.grid.cells_per_wavelength, grids)
+    if problem:
+        raise RingprintError(f"{case.source}: {problem}")
     out = prepare_output_dir(out_dir if out_dir is not None else default_out_dir(case_path))
     digest = case.digest()
     fields = case.output.fields if fields is None else bool(fields)
@@ -150,12 +182,20 @@ def run_case(case_path, out_dir=None, resume: bool = False, progress: bool | Non
         modes, hazards = mode_table(res, rows, ring.probe_signal, radius, bands,
                                     case.analysis.detuning_margin)
         notes = list(model.warnings)
+        coarse = []
+        for level in range(1, grids if modes else 1):       # nothing to compare without modes
+            bar.at(0.9, "grid check")
+            coarse.append(coarse_run(case, level, allow_memory))
+        uncertainty = annotate(modes, model, ring.dt, coarse)
+        if uncertainty["grid_study"]:
+            notes += [f"mode {u['mode']}: {u['reason']}; its uncertainty is the stated bound"
+                      for u in uncertainty["grid_study"]["unmatched"]]
         fs = None
         remove_stale(out)
         if fields:
             fs = run_field_stage(model, probe, ring, modes, hazards, out, notes,
                                  progress=lambda s, n: bar.at(0.5 + 0.4 * s / n, "fields"))
-        notes += [f"mode {m['index']}: Q {m['q']:.3g} is below the Chu bound {m['q_chu']:.3g}; "
+        notes += [f"mode {m['index']}: Q {q_text(m)} is below the Chu bound {m['q_chu']:.3g}; "
                   "treat it as suspect" for m in modes if m["below_chu"] and m["chu_applies"]]
         summary = {
             "results_layout": RESULTS_LAYOUT,
@@ -164,6 +204,7 @@ def run_case(case_path, out_dir=None, resume: bool = False, progress: bool | Non
             "modes": modes,
             "hazards": hazards,
             "chu_sphere": {"radius_m": float(radius)},
+            "uncertainty": uncertainty,
             "run": {"steps": int(ring.steps), "dt_s": float(ring.dt),
                     "wall_time_s": float(time.perf_counter() - t_start),
                     "stepping_time_s": float(ring.wall_time_s),

@@ -33,6 +33,7 @@ when absent, and ``"bands"`` -- the band list -- when absent)::
                           (its phase, if wanted, under an added key "phase_rad"),
              "error": float >= 0 or None, the relative error estimate of the
                       complex frequency (|delta omega| / |omega|; shown in ppm or %),
+                      the fit's own error (the same value as the optional "fit_error"),
              "q_chu": float > 0 or None, the Chu lower bound of Q for the sphere
                       that encloses the part(s) that ring,
              "bands": [{"band": str (a band name), "status": "inside"|"near"|"clear",
@@ -42,7 +43,12 @@ when absent, and ``"bands"`` -- the band list -- when absent)::
              "participation": {part name: fraction of the mode's energy in that
                                part and its shell, 0..1} (empty without fields),
              optional: "q_over_chu": float (default q / q_chu), "confidence": str
-             (e.g. "high"/"low") or float, "phase_rad": float, any other scalar keys
+             (e.g. "high"/"low") or float, "phase_rad": float; the uncertainty
+             (ringprint.analysis.uncertainty; tables print f and Q to the digits it
+             supports): "fit_error", "frequency_uncertainty_hz", "q_uncertainty"
+             (absolute), "uncertainty_basis": "grid study"|"stated bound",
+             "frequency_extrapolated_hz", "q_extrapolated", "grid_order" (None for a
+             mode the grid study could not match); any other scalar keys
              (they become extra CSV columns); with mode fields
              (ringprint.analysis.field_stage): "rings_in": part name or None,
              "participation_detail": {part: {"electric_inside", "electric_near",
@@ -58,6 +64,11 @@ when absent, and ``"bands"`` -- the band list -- when absent)::
     "run": {"steps": int, "dt_s": float, "wall_time_s": float, "memory_bytes": int,
             ...other facts, shown as given},
     "notes": [str, ...] -- warnings of the run, shown in the report,
+    "uncertainty": {"basis": "grid study"|"stated bound", "stated_bound": str (what
+             the stated bound rests on), "grid_study": None or {"method", "grids":
+             [{"cells_per_wavelength", "cell_m", "modes_found", ...}], "ratio",
+             "stated_order", "order_reason", "safety_factor", "matched": [mode
+             indices], "unmatched": [{"mode", "reason"}]}},
     "ringprint_version": str.
 
 ``bands`` (list) -- the operating bands checked:
@@ -90,11 +101,12 @@ from ringprint import __version__
 from ringprint.analysis.outputs import (atomic_write_bytes, atomic_write_text,
                                         prepare_output_dir, write_run_log)
 from ringprint.analysis.plots import check_spectrum, render_spectrum_png, write_spectrum_png
-from ringprint.analysis.results import (format_summary_table, q_over_chu, hazards_from_modes,
+from ringprint.analysis.results import (basis_text, format_summary_table, frequency_text,
+                                        hazards_from_modes, q_over_chu_text, q_text,
                                         validate_bands, validate_summary, write_csv, write_json)
 from ringprint.analysis.textformat import (format_bytes, format_duration, format_error,
                                            format_frequency, format_number, format_percent,
-                                           format_q, format_sci, format_si)
+                                           format_sci, format_si)
 
 __all__ = ["write_results", "write_report_html", "build_report_html", "SAFETY_NOTE",
            "write_json", "write_csv", "write_spectrum_png", "write_run_log",
@@ -254,8 +266,7 @@ def _hazard_section(summary: Mapping, hazards: Sequence[Mapping]) -> str:
     rows, classes = [], []
     for h in sorted(hazards, key=lambda h: h["rank"]):
         m = modes[h["mode"] - 1]
-        rows.append([h["rank"], m["index"], format_frequency(m["frequency_hz"], m["error"]),
-                     format_q(m["q"]), h["band"], h["status"],
+        rows.append([h["rank"], m["index"], frequency_text(m), q_text(m), h["band"], h["status"],
                      format_percent(h["distance_percent"]), _participation_text(m)])
         classes.append(h["status"])
     out.append(_table("hazards", ["rank", "mode", "frequency", "Q", "band", "status",
@@ -274,18 +285,55 @@ def _modes_section(summary: Mapping) -> str:
         return "\n".join(out)
     has_conf = any("confidence" in m for m in modes)
     header = ["mode", "frequency", "Q", "Q / Q_Chu", "decay rate (1/s)", "amplitude",
-              "error", "bands", "where it rings"] + (["confidence"] if has_conf else [])
-    rows = [[m["index"], format_frequency(m["frequency_hz"], m["error"]), format_q(m["q"]),
-             format_q(q_over_chu(m)), format_sci(m["decay_rate_per_s"]),
-             format_number(m["amplitude"]), format_error(m["error"]), _bands_text(m),
-             _participation_text(m)] + ([str(m.get("confidence", "-"))] if has_conf else [])
-            for m in modes]
-    numeric = [True] * 7 + [False, False] + ([False] if has_conf else [])
+              "uncertainty from", "bands", "where it rings"] + (["confidence"] if has_conf else [])
+    rows = [[m["index"], frequency_text(m), q_text(m), q_over_chu_text(m),
+             format_sci(m["decay_rate_per_s"]), format_number(m["amplitude"]), basis_text(m),
+             _bands_text(m), _participation_text(m)]
+            + ([str(m.get("confidence", "-"))] if has_conf else []) for m in modes]
+    numeric = [True] * 6 + [False, False, False] + ([False] if has_conf else [])
     out.append(_table("modes", header, rows, numeric))
-    out.append('<p class="muted">Q / Q_Chu compares the Q with the Chu limit of the smallest '
-               "sphere around the part(s) that ring; near 1 means the part radiates about as "
-               "well as anything of its size can. Error: estimated relative error of the "
-               "complex frequency.</p>")
+    out.append('<p class="muted">Frequency and Q are shown with their uncertainty and to the '
+               "digits it supports (details below). Q / Q_Chu compares the Q with the Chu limit "
+               "of the smallest sphere around the part(s) that ring; near 1 means the part "
+               "radiates about as well as anything of its size can.</p>")
+    out.append(_uncertainty_section(summary))
+    return "\n".join(out)
+
+
+def _uncertainty_section(summary: Mapping) -> str:
+    """The details table: full-precision values, extrapolated values, fit error, basis."""
+    modes = summary["modes"]
+    out = ["<h3>Uncertainty details</h3>"]
+    rows = []
+    for m in modes:
+        u_f, u_q = m.get("frequency_uncertainty_hz"), m.get("q_uncertainty")
+        rows.append([m["index"], format_frequency(m["frequency_hz"], digits=9),
+                     format_frequency(m.get("frequency_extrapolated_hz"), digits=6),
+                     format_percent(None if u_f is None else 100.0 * u_f / m["frequency_hz"]),
+                     format_number(m["q"], 6), format_number(m.get("q_extrapolated"), 4),
+                     format_percent(None if u_q is None else 100.0 * u_q / m["q"]),
+                     basis_text(m), format_error(m.get("fit_error", m.get("error")))])
+    out.append(_table("uncertainty", ["mode", "frequency as computed", "extrapolated",
+                                      "frequency uncertainty", "Q as computed", "extrapolated",
+                                      "Q uncertainty", "from", "fit error"], rows,
+                      [True] * 7 + [False, True]))
+    block = summary.get("uncertainty") or {}
+    study = block.get("grid_study")
+    notes = []
+    if study:
+        grids = ", ".join(f"{g['cells_per_wavelength']:.4g}" for g in study["grids"])
+        notes.append(f"Grid study: cells per wavelength {grids} (ratio {study['ratio']:.3g}); "
+                     f"{study['method']}; order {study['order_reason']}; safety factor "
+                     f"{study['safety_factor']}. Extrapolated: the Richardson value.")
+        if study.get("floor"):
+            notes.append(f"Grid uncertainty here: {study['floor']}.")
+        notes += [f"Mode {u['mode']} kept the stated bound: {u['reason']}." for u in study["unmatched"]]
+    if block.get("stated_bound") and any(m.get("uncertainty_basis") == "stated bound" for m in modes):
+        notes.append(f"Stated bound: {block['stated_bound']}. Set grid_check = true under "
+                     "[analysis] (or run with --grid-check) for a measured one.")
+    notes.append("Fit error: the harmonic inversion's own relative error of the complex "
+                 "frequency, a small part of the uncertainty.")
+    out += [f'<p class="muted">{_e(n)}</p>' for n in notes]
     return "\n".join(out)
 
 

@@ -24,10 +24,12 @@ import numpy as np
 
 from ringprint import __version__
 from ringprint.analysis.outputs import atomic_write_text
-from ringprint.analysis.textformat import format_error, format_frequency, format_percent, format_q
+from ringprint.analysis.textformat import (format_frequency_pm, format_like, format_percent,
+                                           format_q_pm)
 from ringprint.errors import RingprintError
 
-__all__ = ["MODE_KEYS", "CSV_COLUMNS", "STATUSES", "to_jsonable", "validate_bands",
+__all__ = ["MODE_KEYS", "CSV_COLUMNS", "UNCERTAINTY_KEYS", "frequency_text", "q_text",
+           "q_over_chu_text", "basis_text", "STATUSES", "to_jsonable", "validate_bands",
            "validate_summary", "hazards_from_modes", "q_over_chu", "worst_status", "write_json",
            "write_csv", "csv_rows", "format_summary_table"]
 
@@ -37,6 +39,10 @@ MODE_KEYS = ("index", "frequency_hz", "q", "decay_rate_per_s", "amplitude", "err
 #: Columns of modes.csv, in order; other scalar mode keys follow, sorted by name.
 CSV_COLUMNS = ("index", "frequency_hz", "q", "decay_rate_per_s", "amplitude", "error",
                "q_chu", "q_over_chu", "confidence", "worst_status", "bands", "participation")
+#: Each mode's uncertainty (ringprint.analysis.uncertainty); optional, but always
+#: columns of modes.csv, after :data:`CSV_COLUMNS` (empty cells when absent).
+UNCERTAINTY_KEYS = ("fit_error", "frequency_uncertainty_hz", "q_uncertainty", "uncertainty_basis",
+                    "frequency_extrapolated_hz", "q_extrapolated", "grid_order")
 #: Band statuses, worst first.
 STATUSES = ("inside", "near", "clear")
 
@@ -152,6 +158,13 @@ def _check_mode(mode, i: int, band_names):
     _number(mode["error"], f"{p}.error", minimum=0, optional=True)
     _number(mode["q_chu"], f"{p}.q_chu", minimum=0, strict=True, optional=True)
     _number(mode.get("q_over_chu"), f"{p}.q_over_chu", minimum=0, optional=True)
+    for key in ("fit_error", "frequency_uncertainty_hz", "q_uncertainty", "grid_order"):
+        _number(mode.get(key), f"{p}.{key}", minimum=0, optional=True)
+    for key in ("frequency_extrapolated_hz", "q_extrapolated"):
+        _number(mode.get(key), f"{p}.{key}", optional=True)
+    if mode.get("uncertainty_basis") not in (None, "grid study", "stated bound"):
+        _fail(f"{p}.uncertainty_basis", f"is {mode['uncertainty_basis']!r}",
+              "give 'grid study' or 'stated bound'")
     if not isinstance(mode["bands"], list):
         _fail(f"{p}.bands", f"is {mode['bands']!r}", "give a list (empty if no bands)")
     for j, entry in enumerate(mode["bands"]):
@@ -309,7 +322,8 @@ def csv_rows(summary: Mapping) -> tuple[list[str], list[list[str]]]:
     modes = summary["modes"]
     extra = sorted({k for m in modes for k, v in m.items()
                     if k not in CSV_COLUMNS and (v is None or isinstance(v, (str, int, float)))})
-    header = list(CSV_COLUMNS) + extra
+    extra = [k for k in extra if k not in UNCERTAINTY_KEYS]
+    header = list(CSV_COLUMNS) + list(UNCERTAINTY_KEYS) + extra
     rows = []
     for mode in modes:
         flat = dict(mode)
@@ -354,8 +368,32 @@ def _bands_hit(mode: Mapping) -> str:
     return ", ".join(hits) or "-"
 
 
+def frequency_text(mode: Mapping) -> str:
+    """A mode's frequency to the digits its uncertainty supports (``"977 ± 7 MHz"``);
+    a summary without uncertainties falls back to the fit error's digits."""
+    return format_frequency_pm(mode["frequency_hz"], mode.get("frequency_uncertainty_hz"),
+                               mode.get("error"))
+
+
+def q_text(mode: Mapping) -> str:
+    """A mode's Q with its uncertainty (``"43 ± 4"``), or three digits without one."""
+    return format_q_pm(mode["q"], mode.get("q_uncertainty"))
+
+
+def q_over_chu_text(mode: Mapping) -> str:
+    """Q / Q_Chu to the digits the Q's relative uncertainty supports."""
+    u = mode.get("q_uncertainty")
+    return format_like(q_over_chu(mode), None if u is None else u / mode["q"])
+
+
+def basis_text(mode: Mapping) -> str:
+    """Where the uncertainty comes from, for tables: "grid study", "stated bound" or "-"."""
+    return mode.get("uncertainty_basis") or "-"
+
+
 def format_summary_table(summary: Mapping) -> str:
-    """The plain-text table printed at the end of a run (mode, f, Q, Q/Chu, error, bands hit).
+    """The plain-text table printed at the end of a run (mode, f and Q with their
+    uncertainties, Q/Chu, where the uncertainty comes from, bands hit).
 
     Columns are aligned with spaces; numbers are right-aligned. A run with no modes
     gives one line saying so.
@@ -364,10 +402,10 @@ def format_summary_table(summary: Mapping) -> str:
     modes = data["modes"]
     if not modes:
         return "no resonances found in the analysed spectrum"
-    header = ["mode", "frequency", "Q", "Q/Q_Chu", "error", "bands hit"]
-    rows = [[str(m["index"]), format_frequency(m["frequency_hz"], m["error"]), format_q(m["q"]),
-             format_q(q_over_chu(m)), format_error(m["error"]), _bands_hit(m)] for m in modes]
-    right = [True, True, True, True, True, False]
+    header = ["mode", "frequency", "Q", "Q/Q_Chu", "uncertainty from", "bands hit"]
+    rows = [[str(m["index"]), frequency_text(m), q_text(m), q_over_chu_text(m), basis_text(m),
+             _bands_hit(m)] for m in modes]
+    right = [True, True, True, True, False, False]
     if any("rings_in" in m for m in modes):
         header.append("rings in")
         right.append(False)

@@ -1,7 +1,8 @@
 """Numbers as people read them in ringprint's tables and reports.
 
 Frequencies in Hz/kHz/MHz/GHz with as many digits as their error supports, Q with
-three significant digits, relative errors in ppm or %, sizes in KiB/MiB/GiB and
+three significant digits, a value with its uncertainty to the digits the uncertainty
+supports (``"977.2 ± 6.5 MHz"``, ``"43 ± 3"``: :func:`round_with_uncertainty`), relative errors in ppm or %, sizes in KiB/MiB/GiB and
 durations in s/min/h. Every function takes SI values and returns a short string;
 ``None`` or NaN becomes ``"-"``.
 """
@@ -11,7 +12,8 @@ from __future__ import annotations
 import math
 
 __all__ = ["format_frequency", "format_q", "format_error", "format_percent",
-           "format_sci", "format_number", "format_si", "format_bytes", "format_duration", "significant"]
+           "format_sci", "format_number", "format_si", "format_bytes", "format_duration", "significant",
+           "round_with_uncertainty", "format_frequency_pm", "format_q_pm", "format_like"]
 
 MISSING = "-"
 
@@ -63,6 +65,75 @@ def format_frequency(hz, rel_error=None, digits: int | None = None, trim: bool =
                 text = text.rstrip("0").rstrip(".")
             return f"{text} {unit}"
     raise AssertionError("unreachable")  # pragma: no cover
+
+
+def round_with_uncertainty(x: float, u: float) -> tuple[str, str, int]:
+    """``x`` and its uncertainty ``u > 0`` as text, to the digits ``u`` supports.
+
+    ``u`` keeps one significant digit, two when that digit would be 1 (common
+    practice), and is rounded *up* so the printed uncertainty is never smaller than
+    ``u``; ``x`` is rounded to the same decimal place, so the printed ``x`` lies within
+    half a unit of that place, less than ``u``, of ``x``. Returns
+    ``(x_text, u_text, decimals)``; ``decimals`` is negative when the place lies left of
+    the decimal point (``round_with_uncertainty(12345, 300) == ("12300", "300", -2)``).
+    """
+    x, u = float(x), float(u)
+    if not (math.isfinite(x) and math.isfinite(u) and u > 0):
+        raise ValueError(f"need a finite value and a positive uncertainty, got {x!r} +- {u!r}")
+    place = math.floor(math.log10(u))
+    if u / 10.0 ** place < 2.0:
+        place -= 1
+    steps = math.ceil(u / 10.0 ** place * (1 - 1e-12))        # u rounded up, in units of the place
+    if steps == 20:                                              # 0.196 -> 0.2, not 0.20
+        place, steps = place + 1, 2
+    decimals = -place
+    if decimals > 0:
+        return f"{round(x, decimals):.{decimals}f}", f"{steps * 10.0 ** place:.{decimals}f}", decimals
+    scale = 10 ** place
+    return str(int(round(x / scale)) * scale), str(steps * scale), decimals
+
+
+def _frequency_unit(hz: float) -> tuple[float, str]:
+    for scale, unit in ((1e9, "GHz"), (1e6, "MHz"), (1e3, "kHz")):
+        if abs(hz) >= scale:
+            return scale, unit
+    return 1.0, "Hz"
+
+
+def format_frequency_pm(hz, u_hz=None, rel_error=None) -> str:
+    """A frequency with its uncertainty, ``"2.410 ± 0.012 GHz"``.
+
+    Without a usable uncertainty (None, NaN, not positive) the frequency is written by
+    :func:`format_frequency` with ``rel_error`` alone.
+    """
+    if _missing(hz):
+        return MISSING
+    if _missing(u_hz) or not float(u_hz) > 0:
+        return format_frequency(hz, rel_error)
+    scale, unit = _frequency_unit(float(hz))
+    value, unc, _ = round_with_uncertainty(float(hz) / scale, float(u_hz) / scale)
+    return f"{value} \u00b1 {unc} {unit}"
+
+
+def format_q_pm(q, u_q=None) -> str:
+    """Q with its uncertainty, ``"43 ± 3"``; :func:`format_q` without one."""
+    if _missing(q):
+        return MISSING
+    if _missing(u_q) or not float(u_q) > 0 or math.isinf(float(q)):
+        return format_q(q)
+    value, unc, _ = round_with_uncertainty(float(q), float(u_q))
+    return f"{value} \u00b1 {unc}"
+
+
+def format_like(x, rel_u) -> str:
+    """``x`` alone, to the digits a relative uncertainty ``rel_u`` supports (a ratio such
+    as Q / Q_Chu, which carries the relative uncertainty of Q); three significant
+    digits without one."""
+    if _missing(x):
+        return MISSING
+    if _missing(rel_u) or not float(rel_u) > 0 or float(x) == 0:
+        return format_q(x)
+    return round_with_uncertainty(float(x), abs(float(x)) * float(rel_u))[0]
 
 
 def format_q(q) -> str:

@@ -499,3 +499,81 @@ def test_frequency_digits_follow_the_error():
 def test_no_temp_files_anywhere(written):
     out, _, _ = written
     assert not [n for n in os.listdir(out) if TEMP_MARKER in n or n.startswith(".")]
+
+
+# --- uncertainty ------------------------------------------------------------------
+
+def _with_uncertainty():
+    """The invented summary with invented uncertainties (writer test data, not physics)."""
+    summary = invented_summary()
+    for m, (u_f, u_q, basis) in zip(summary["modes"], [(1.2e7, 0.6, "grid study"),
+                                                       (2.0e7, 3.1, "stated bound"),
+                                                       (3.0e7, 160.0, "stated bound")]):
+        m.update(fit_error=m["error"], frequency_uncertainty_hz=u_f, q_uncertainty=u_q,
+                 uncertainty_basis=basis, frequency_extrapolated_hz=None, q_extrapolated=None)
+    summary["modes"][0].update(frequency_extrapolated_hz=1.2301e9, q_extrapolated=8.31)
+    summary["uncertainty"] = {"basis": "grid study", "stated_bound": "made-up basis",
+                              "grid_study": {"method": "made-up method", "ratio": 1.3,
+                                             "grids": [{"cells_per_wavelength": 20.0},
+                                                       {"cells_per_wavelength": 15.38}],
+                                             "order_reason": "1: made up", "safety_factor": 3.0,
+                                             "matched": [1], "unmatched": [
+                                                 {"mode": 2, "reason": "made-up reason"}]}}
+    return summary
+
+
+def test_tables_print_the_digits_the_uncertainty_supports():
+    """f and Q with their uncertainty (one digit, two when it is 1; Q / Q_Chu to Q's
+    relative uncertainty); the fit error in ppm is gone from the terminal table."""
+    table = format_summary_table(_with_uncertainty())
+    lines = table.splitlines()
+    assert "uncertainty from" in lines[0] and "error" not in lines[0] and "ppm" not in table
+    assert "1.235 \u00b1 0.012 GHz" in lines[2] and "8.4 \u00b1 0.6" in lines[2]
+    assert "1.80 \u00b1 0.02 GHz" in lines[3] and "52 \u00b1 4" in lines[3]
+    assert "1230 \u00b1 160" in lines[4]
+    assert "2.7" in lines[2].split()  # Q / Q_Chu = 2.71 to 7 % -> 2.7
+
+
+def test_report_shows_uncertainty_and_keeps_the_fit_error_in_details(tmp_path):
+    summary = _with_uncertainty()
+    path = write_report_html(tmp_path, summary, {"record": invented_record(summary), "dt_s": 2e-11},
+                             BANDS)
+    parser = _parse(path)
+    modes = parser.rows("modes")
+    assert modes[0][6] == "uncertainty from" and modes[1][1] == "1.235 \u00b1 0.012 GHz"
+    assert modes[1][6] == "grid study" and modes[2][6] == "stated bound"
+    details = parser.rows("uncertainty")
+    assert details[0][-1] == "fit error" and details[1][-1] == "2.0 ppm"
+    assert details[1][1] == "1.23456780 GHz" and details[1][2] == "1.23010 GHz"
+    assert details[2][2] == "-"                                   # not extrapolated
+    hazards = parser.rows("hazards")
+    assert hazards[1][2] == "1.80 \u00b1 0.02 GHz"                 # rank 1 is mode 2
+    text = " ".join(parser.text)
+    assert "Mode 2 kept the stated bound: made-up reason." in text
+    assert "Stated bound: made-up basis." in text
+
+
+def test_csv_has_the_uncertainty_columns(tmp_path):
+    path = write_csv(tmp_path, _with_uncertainty())
+    with open(path, newline="", encoding="utf-8") as fh:
+        rows = list(csv.DictReader(fh))
+    for key in ("fit_error", "frequency_uncertainty_hz", "q_uncertainty", "uncertainty_basis",
+                "frequency_extrapolated_hz", "q_extrapolated", "grid_order"):
+        assert key in rows[0]
+    assert float(rows[0]["frequency_uncertainty_hz"]) == 1.2e7
+    assert rows[1]["frequency_extrapolated_hz"] == "" and rows[0]["grid_order"] == ""
+    plain = write_csv(tmp_path / "plain.csv", invented_summary())   # no uncertainty: empty cells
+    with open(plain, newline="", encoding="utf-8") as fh:
+        assert next(csv.DictReader(fh))["q_uncertainty"] == ""
+
+
+@pytest.mark.parametrize("edit, where", [
+    (lambda m: m.update(q_uncertainty=-1.0), r"modes\[0\].q_uncertainty"),
+    (lambda m: m.update(uncertainty_basis="guess"), "'grid study' or 'stated bound'"),
+    (lambda m: m.update(frequency_uncertainty_hz="1 MHz"), r"modes\[0\].frequency_uncertainty_hz"),
+])
+def test_bad_uncertainty_names_the_key(edit, where):
+    summary = _with_uncertainty()
+    edit(summary["modes"][0])
+    with pytest.raises(RingprintError, match=where):
+        validate_summary(summary, BANDS)
