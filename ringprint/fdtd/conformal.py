@@ -54,7 +54,7 @@ import numpy as np
 from ringprint.errors import RingprintError
 
 #: Smallest time-step factor the conformal faces may force (faces needing less are enlarged).
-MIN_STEP_FACTOR = 0.8
+MIN_STEP_FACTOR = 0.7
 #: Rounds of area enlargement (each raises a face's area by its excess row sum).
 ENLARGE_ROUNDS = 12
 #: Fractions within this of 1 count as uncut.
