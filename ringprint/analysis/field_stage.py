@@ -63,7 +63,7 @@ def run_field_stage(model, probe, ring, modes, hazards, out_dir, notes, progress
     fs = compute_fields(model, probe, ring, modes, lat, progress=progress, notes=notes)
     log.info("mode fields on every %d grid node(s): %s points", fs.decimation,
              "x".join(str(n) for n in fs.shape))
-    regions = Regions(fs, model.grid.cell)
+    regions = Regions(fs)
     for m, mf in zip(modes, fs.modes):
         p = participation(fs, mf, regions)
         m["participation"] = p["share"]

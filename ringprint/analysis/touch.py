@@ -64,9 +64,14 @@ touched). Each point's outward normal is minus the gradient of the solid indicat
 smoothed by a Gaussian of one node. The pad at a touch point is every exterior node
 within ``pad_radius_m`` of it: a ball of tissue cut by the surface, about a fingertip
 pressed flat (default radius 5 mm, a contact about 10 mm across, common practice). On a
-coarse lattice (radius below one spacing) the pad is the touch node alone. Every
-point is computed at once: the products ``Re(E_a E_b*)`` over exterior nodes are
-convolved with the ball (FFT) and combined with each point's normal.
+coarse lattice (radius below one spacing) the pad is the touch node alone. Every node
+of the pad counts with the volume it stands for
+(:meth:`~ringprint.analysis.fieldset.FieldSet.node_volumes`). Every point is computed
+at once from the products ``Re(E_a E_b*)`` over exterior nodes, combined with each
+point's normal: on a uniform lattice the products are convolved with the ball (FFT,
+every node the same volume); on a graded one each point sums its own ball's nodes,
+found with a k-d tree (Bentley 1975), each times its node volume. Both give the same
+sums on a uniform lattice (to rounding).
 """
 
 from __future__ import annotations
@@ -77,6 +82,7 @@ import os
 import numpy as np
 import scipy.fft
 from scipy import ndimage, signal
+from scipy.spatial import cKDTree
 
 from ringprint.analysis.fieldset import FieldSet, ModeField, TouchMap, stored_energy
 from ringprint.analysis.tissue import tissue_permittivity
@@ -88,6 +94,10 @@ __all__ = ["DEFAULT_PAD_RADIUS_M", "exterior_air", "perturbation_shift", "q_afte
 
 #: Default pad radius (m): a fingertip contact about 10 mm across (common practice).
 DEFAULT_PAD_RADIUS_M = 5e-3
+#: How the pad sums are taken: "auto" (FFT on a uniform lattice, else direct), "fft", "direct".
+PAD_METHODS = ("auto", "fft", "direct")
+#: Touch points per block of the direct pad sums (bounds the neighbour lists in memory).
+_DIRECT_BLOCK = 2048
 #: Depolarization (along the normal, in the plane) of a thin flat pad.
 THIN_PAD_DEPOLARIZATION = (1.0, 0.0)
 
@@ -158,7 +168,7 @@ def _eps_tissue(tissue, frequency_hz: float) -> complex:
 
 def _energy4(fs: FieldSet, m: ModeField) -> float:
     """``Int(eps |E|^2 + mu0 |H|^2) dV`` over the lattice (four times the stored energy)."""
-    total = 4.0 * stored_energy(fs.eps_r, m.e, m.h, fs.cell_volume)
+    total = 4.0 * stored_energy(fs.eps_r, m.e, m.h, fs.node_volumes())
     if not total > 0:
         raise RingprintError(f"mode {m.index} has no stored energy on the lattice; its fields are empty")
     return total
@@ -223,16 +233,17 @@ def perturbation_shift(fs: FieldSet, mode, region, eps_tissue, normal=None,
         raise RingprintError("region overlaps a part; tissue can only replace air nodes")
     eps_t = _eps_tissue(eps_tissue, m.frequency_hz)
     e = m.e[:, region].astype(complex)
-    s = float(np.sum(np.abs(e) ** 2))
+    dv = fs.node_volumes()[region]
+    s = float(np.sum(dv * np.sum(np.abs(e) ** 2, axis=0)))
     if normal is not None:
         n_n, n_t = THIN_PAD_DEPOLARIZATION if depolarization is None else _pair(depolarization)
         n = _unit(normal)
-        en2 = float(np.sum(np.abs(np.einsum("c,cp->p", n, e)) ** 2))
+        en2 = float(np.sum(dv * np.abs(np.einsum("c,cp->p", n, e)) ** 2))
         l_n, l_t = local_factor(eps_t, n_n), local_factor(eps_t, n_t)
         s = l_t * s + (l_n - l_t) * en2
     elif depolarization is not None:
         s = local_factor(eps_t, _factor(depolarization)) * s
-    return complex(-EPS0 * (eps_t - 1.0) * s * fs.cell_volume / _energy4(fs, m))
+    return complex(-EPS0 * (eps_t - 1.0) * s / _energy4(fs, m))
 
 
 def _factor(v) -> float:
@@ -340,41 +351,91 @@ def _ball(radius_nodes: float) -> np.ndarray:
 
 
 class _Surface:
-    """What every mode's map shares: touch nodes, normals, the pad kernel and the crop box."""
+    """What every mode's map shares: touch nodes, normals, and how each pad is summed.
 
-    def __init__(self, fs: FieldSet, pad_radius_m: float):
+    ``method`` "fft": the ball kernel in nodes and the crop box (uniform lattice only);
+    "direct": the sparse pad matrix and the exterior nodes it reaches (:func:`_pad_matrix`).
+    """
+
+    def __init__(self, fs: FieldSet, pad_radius_m: float, method: str = "auto"):
         if not (isinstance(pad_radius_m, numbers.Real) and np.isfinite(pad_radius_m) and pad_radius_m >= 0):
             raise RingprintError(f"pad_radius_m must be a length >= 0 in metres, got {pad_radius_m!r}")
-        if not fs.spacing > 0:
-            raise RingprintError("the lattice needs at least two nodes along x to know its spacing")
+        if method not in PAD_METHODS:
+            raise RingprintError(f"pad method {method!r} is not known; use one of {', '.join(PAD_METHODS)}")
+        if min(fs.shape) < 2:
+            raise RingprintError(f"the lattice is {fs.shape} nodes; a touch map needs at least two "
+                                 "nodes along each axis")
+        uniform = fs.uniform
+        if method == "fft" and not uniform:
+            raise RingprintError("the FFT pad sum needs a uniform lattice; this one is graded, use "
+                                 "method 'direct' or 'auto'")
+        self.method = "fft" if method == "fft" or (method == "auto" and uniform) else "direct"
         self.exterior = exterior_air(fs)
         self.index, self.normals = touch_points(fs, self.exterior)
-        self.kernel = _ball(pad_radius_m / fs.spacing)
-        r = self.kernel.shape[0] // 2
-        lo = np.maximum(self.index.min(axis=0) - r, 0)
-        hi = np.minimum(self.index.max(axis=0) + r + 1, fs.shape)
-        self.box = tuple(slice(a, b) for a, b in zip(lo, hi))
-        self.local = tuple((self.index - lo).T)
         self.points = np.stack([fs.x[self.index[:, 0]], fs.y[self.index[:, 1]],
                                 fs.z[self.index[:, 2]]], axis=1)
+        if self.method == "fft":
+            self.cell_volume = fs.cell_volume
+            self.kernel = _ball(pad_radius_m / fs.spacing)
+            r = self.kernel.shape[0] // 2
+            lo = np.maximum(self.index.min(axis=0) - r, 0)
+            hi = np.minimum(self.index.max(axis=0) + r + 1, fs.shape)
+            self.box = tuple(slice(a, b) for a, b in zip(lo, hi))
+            self.local = tuple((self.index - lo).T)
+        else:
+            self.pads, self.nodes = _pad_matrix(fs, self.exterior, self.points, pad_radius_m)
+
+
+def _pad_matrix(fs: FieldSet, exterior: np.ndarray, points: np.ndarray, radius: float):
+    """The pads as a sparse matrix: row p holds, at the exterior nodes within ``radius``
+    of point p (its own node included), their node volumes; columns index ``nodes``,
+    the flat lattice indices of the exterior nodes any pad reaches. Returns
+    ``(matrix, nodes)``."""
+    from scipy import sparse
+
+    # a node on the sphere counts, as in _ball: reach a hair beyond the radius
+    reach = radius * (1.0 + 1e-9) + 1e-9 * fs.min_step
+    lo, hi = points.min(axis=0) - reach, points.max(axis=0) + reach
+    near = [(a >= l) & (a <= h) for a, l, h in zip((fs.x, fs.y, fs.z), lo, hi)]
+    nodes = np.flatnonzero(exterior & near[0][:, None, None] & near[1][None, :, None]
+                           & near[2][None, None, :])
+    i, j, k = np.unravel_index(nodes, fs.shape)
+    tree = cKDTree(np.stack([fs.x[i], fs.y[j], fs.z[k]], axis=1))
+    dv = fs.node_volumes().reshape(-1)[nodes]
+    blocks = []
+    for b in range(0, points.shape[0], _DIRECT_BLOCK):
+        block = points[b:b + _DIRECT_BLOCK]
+        pairs = cKDTree(block).sparse_distance_matrix(tree, reach, output_type="ndarray")
+        blocks.append(sparse.csr_matrix((dv[pairs["j"]], (pairs["i"], pairs["j"])),
+                                        shape=(block.shape[0], nodes.size)))
+    return sparse.vstack(blocks, format="csr"), nodes
+
+
+def _pad_sums(fs: FieldSet, m: ModeField, surf: _Surface) -> np.ndarray:
+    """``sum over the pad of Re(E_a E_b*) dV`` for the six pairs at every touch point (6, m)."""
+    if surf.method == "fft":
+        e = m.e[(slice(None), *surf.box)].astype(complex)
+        ext = surf.exterior[surf.box]
+        products = np.stack([np.where(ext, (e[a] * np.conj(e[b])).real, 0.0) for a, b in _PAIRS])
+        with scipy.fft.set_workers(os.cpu_count() or 1):
+            pads = signal.fftconvolve(products, surf.kernel[None], mode="same", axes=(1, 2, 3))
+        return pads[(slice(None), *surf.local)] * surf.cell_volume
+    e = m.e.reshape(3, -1)[:, surf.nodes].astype(complex)
+    products = np.stack([(e[a] * np.conj(e[b])).real for a, b in _PAIRS], axis=1)   # (n, 6)
+    return np.asarray(surf.pads @ products).T
 
 
 def _shifts(fs: FieldSet, m: ModeField, surf: _Surface, eps_t: complex,
             depolarization=FINGERTIP_DEPOLARIZATION) -> np.ndarray:
     """``delta`` at every touch point (see the module docstring)."""
-    e = m.e[(slice(None), *surf.box)].astype(complex)
-    ext = surf.exterior[surf.box]
-    products = np.stack([np.where(ext, (e[a] * np.conj(e[b])).real, 0.0) for a, b in _PAIRS])
-    with scipy.fft.set_workers(os.cpu_count() or 1):
-        pads = signal.fftconvolve(products, surf.kernel[None], mode="same", axes=(1, 2, 3))
-    at = pads[(slice(None), *surf.local)]          # (6, m)
+    at = _pad_sums(fs, m, surf)                   # (6, m)
     n = surf.normals.T
     total = at[0] + at[1] + at[2]
     normal = (n[0] ** 2 * at[0] + n[1] ** 2 * at[1] + n[2] ** 2 * at[2]
               + 2.0 * (n[0] * n[1] * at[3] + n[0] * n[2] * at[4] + n[1] * n[2] * at[5]))
     l_n, l_t = (local_factor(eps_t, v) for v in depolarization)
     s = l_t * total + (l_n - l_t) * normal
-    return -EPS0 * (eps_t - 1.0) * s * fs.cell_volume / _energy4(fs, m)
+    return -EPS0 * (eps_t - 1.0) * s / _energy4(fs, m)
 
 
 def _map(fs: FieldSet, mode, tissue, surf: _Surface, depolarization=FINGERTIP_DEPOLARIZATION) -> TouchMap:
@@ -385,7 +446,7 @@ def _map(fs: FieldSet, mode, tissue, surf: _Surface, depolarization=FINGERTIP_DE
 
 
 def touch_map(fs: FieldSet, mode, tissue="skin_dry", pad_radius_m: float = DEFAULT_PAD_RADIUS_M,
-              depolarization=FINGERTIP_DEPOLARIZATION) -> TouchMap:
+              depolarization=FINGERTIP_DEPOLARIZATION, method: str = "auto") -> TouchMap:
     """Predicted detuning of one mode by a fingertip at every touch point of the outer surface.
 
     Parameters
@@ -402,6 +463,10 @@ def touch_map(fs: FieldSet, mode, tissue="skin_dry", pad_radius_m: float = DEFAU
     depolarization : (float, float)
         ``(N_n, N_t)`` of the pad for its local field; default the pressed fingertip
         (:data:`FINGERTIP_DEPOLARIZATION`), :data:`THIN_PAD_DEPOLARIZATION` for a thin pad.
+    method : {"auto", "fft", "direct"}
+        How the pad sums are taken (module docstring): "auto" uses the FFT on a uniform
+        lattice and the direct neighbourhood sum on a graded one; "fft" needs a
+        uniform lattice.
 
     Returns
     -------
@@ -417,17 +482,19 @@ def touch_map(fs: FieldSet, mode, tissue="skin_dry", pad_radius_m: float = DEFAU
     ----------
     Harrington, R. F., *Time-Harmonic Electromagnetic Fields*, McGraw-Hill, 1961,
     sec. 7-2 (cavity perturbation); Stratton, J. A., *Electromagnetic Theory*, 1941,
-    sec. 3.27 (field inside an ellipsoid: the pad's local field).
+    sec. 3.27 (field inside an ellipsoid: the pad's local field); Bentley, J. L.,
+    "Multidimensional binary search trees used for associative searching", Commun.
+    ACM 18(9):509-517, 1975 (k-d tree: the pads of a graded lattice).
     """
     m = _mode(fs, mode)
     _eps_tissue(tissue, m.frequency_hz)          # refuse a bad tissue before the geometry work
-    return _map(fs, m, tissue, _Surface(fs, pad_radius_m), depolarization)
+    return _map(fs, m, tissue, _Surface(fs, pad_radius_m, method), depolarization)
 
 
 def touch_maps(fs: FieldSet, tissue="skin_dry", pad_radius_m: float = DEFAULT_PAD_RADIUS_M,
-               depolarization=FINGERTIP_DEPOLARIZATION) -> dict:
+               depolarization=FINGERTIP_DEPOLARIZATION, method: str = "auto") -> dict:
     """:func:`touch_map` for every mode of ``fs``: ``{mode index: TouchMap}`` (surface found once)."""
-    surf = _Surface(fs, pad_radius_m)
+    surf = _Surface(fs, pad_radius_m, method)
     return {m.index: _map(fs, m, tissue, surf, depolarization) for m in fs.modes}
 
 
