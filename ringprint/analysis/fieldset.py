@@ -204,7 +204,8 @@ class FieldSet:
 
     def electric_density(self, mode: ModeField) -> np.ndarray:
         """Time-averaged electric energy density ``eps0 eps_r |E|^2 / 4`` (J/m^3)."""
-        return 0.25 * EPS0 * self.eps_r * squared_magnitude(mode.e)
+        # float64 first: 0.25 * EPS0 * eps_r would be rounded to eps_r's float32
+        return squared_magnitude(mode.e) * self.eps_r * (0.25 * EPS0)
 
     def magnetic_density(self, mode: ModeField) -> np.ndarray:
         """Time-averaged magnetic energy density ``mu0 |H|^2 / 4`` (J/m^3)."""

@@ -95,3 +95,25 @@ def test_show_refuses_without_a_display(fs, monkeypatch):
         field_views.show(fs, 1)
     monkeypatch.setenv("WAYLAND_DISPLAY", "wayland-0")
     assert field_views.display_available()
+
+
+def test_graded_scene_uses_the_node_coordinates():
+    """On a graded lattice the scene is a rectilinear grid over the nodes; the slice
+    still passes through the |E| peak of TE101 at x = a/2, z = d/2 (Pozar eq. 6.42a),
+    and its points are the lattice's own x and z."""
+    g = cavity_fieldset(1, graded=True)
+    plotter = field_views.build_scene(g, 1, "e", off_screen=True, window_size=(200, 150))
+    try:
+        slices = [a.mapper.dataset for a in plotter.renderer.actors.values()
+                  if isinstance(a, vtk.vtkActor) and a.mapper.dataset.n_cells
+                  and np.ptp(a.mapper.dataset.points[:, 1]) == 0 and a.mapper.dataset.n_points > 400]
+        assert len(slices) == 1
+        plane = slices[0]
+        peak = plane.points[np.argmax(plane["field"])]
+        assert peak[[0, 2]] == pytest.approx([15e-3, 10e-3], abs=1e-9)
+        xs = np.unique(np.round(plane.points[:, 0], 12))
+        assert np.all(np.min(np.abs(xs[:, None] - g.x[None, :]), axis=1) < 1e-9)
+    finally:
+        plotter.close()
+    png = field_views.render_png(g, 1, None, "energy", size=(320, 240))
+    not_blank(decode(png), min_std=0.05, min_colours=100)
