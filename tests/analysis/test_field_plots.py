@@ -23,6 +23,7 @@ import numpy as np
 import pytest
 from scipy.constants import c as C0, epsilon_0 as EPS0, mu_0 as MU0
 
+from _graded import graded_nodes, mirrored
 from ringprint.analysis import field_plots, touch
 from ringprint.analysis.fieldset import FieldSet, ModeField, TouchMap
 from ringprint.errors import RingprintError
@@ -75,15 +76,9 @@ def touch_map(fs: FieldSet, mode: ModeField) -> TouchMap:
 
 def graded_axis(length: float) -> np.ndarray:
     """Nodes on [0, length], symmetric about the middle (a node): steps of about H/2
-    within length/5 of it, growing by 1.25 per step up to about H (all steps scaled by
-    one factor so that they end on the ends). A hand-made graded axis."""
-    half, steps = length / 2, []
-    while sum(steps) < length / 5:
-        steps.append(H / 2)
-    while sum(steps) < half - 1e-12:
-        steps.append(min(steps[-1] * 1.25, H))
-    pos = np.concatenate([[0.0], np.cumsum(steps) * (half / sum(steps))])
-    return np.concatenate([half - pos[:0:-1], half + pos])
+    within length/5 of it, growing by 1.25 per step up to about H."""
+    half = length / 2
+    return mirrored(graded_nodes(H / 2, H, 1.25, int(np.ceil(length / 5 / (H / 2))), until=half, fit=True), half)
 
 
 def cavity_fieldset(n_modes: int = 2, graded: bool = False) -> FieldSet:

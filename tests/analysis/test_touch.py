@@ -9,6 +9,7 @@ frequency; a lossy tissue lowers Q), and that the FFT map equals the direct sum.
 import numpy as np
 import pytest
 
+from _graded import graded_nodes, mirrored
 from ringprint.analysis.fieldset import FieldSet, ModeField
 from ringprint.analysis.touch import (FINGERTIP_DEPOLARIZATION, THIN_PAD_DEPOLARIZATION,
                                       ellipsoid_depolarization, exterior_air, perturbation_shift, q_after, shift_percent,
@@ -204,15 +205,10 @@ def test_local_field_limits(fs):
 
 # --- graded lattices: the direct pad sum -------------------------------------------------
 
-def _graded(h, fine_half, half, ratio=1.25):
-    """Symmetric axis: steps h within +-fine_half, growing by ``ratio`` per step (<= 1.3,
-    the grading limit of the planner) up to 2h, out to +-half."""
-    pos, step = list(np.arange(0.0, fine_half + h / 2, h)), h
-    while pos[-1] < half - 1e-12:
-        step = min(step * ratio, 2 * h)
-        pos.append(pos[-1] + step)
-    pos = np.array(pos)
-    return np.concatenate([-pos[:0:-1], pos])
+def _graded(h, fine_half, half):
+    """Symmetric axis: steps h within +-fine_half, growing by 1.25 per step to 2h, out to
+    at least +-half."""
+    return mirrored(graded_nodes(h, 2 * h, 1.25, round(fine_half / h), until=half))
 
 
 def _windowed_fieldset(ax, half, part_half):

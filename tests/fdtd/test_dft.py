@@ -8,24 +8,15 @@ themselves (``grid.component_coords``), not from the spacings the code uses."""
 import numpy as np
 import pytest
 
+from _graded import graded_nodes
 from ringprint import fdtd
 from ringprint.errors import RingprintError
 
 
-def _graded_axis(n_fine, n_coarse, h):
-    """``n_fine`` cells of h, then cells growing by 1.3 per cell up to 2h, then
-    ``n_coarse`` cells of 2h (a grading ratio <= 1.3, as the planner allows)."""
-    steps = [h] * n_fine
-    while steps[-1] * 1.3 < 2 * h:
-        steps.append(steps[-1] * 1.3)
-    steps += [2 * h] * n_coarse
-    return np.concatenate([[0.0], np.cumsum(steps)])
-
-
 def _graded_grid():
     """Graded along every axis; y is coarse first, then fine."""
-    y = _graded_axis(3, 3, 0.8e-3)
-    return fdtd.Grid(_graded_axis(4, 3, 1e-3), y[-1] - y[::-1], _graded_axis(2, 2, 1.1e-3))
+    return fdtd.Grid(graded_nodes(1e-3, 2e-3, 1.3, 4, 3), graded_nodes(0.8e-3, 1.6e-3, 1.3, 3, 3, reverse=True),
+                     graded_nodes(1.1e-3, 2.2e-3, 1.3, 2, 2))
 
 
 def _sim(grid=None):
