@@ -9,8 +9,8 @@ time-averaged stored energy in the region outside the absorbing layer,
     W = 1/4 sum( eps0 eps_r |E|^2 + mu0 |H|^2 ) dV = 1 J,
 
 where ``dV`` is the volume each node stands for (:meth:`FieldSet.node_volumes`: the
-product of half the steps on either side of the node along each axis, the
-trapezoidal rule of a rectilinear lattice; ``step**3`` everywhere on a uniform one),
+box reaching halfway to the neighbouring node along each axis, half a step beyond
+the end nodes; ``step**3`` everywhere on a uniform lattice),
 and its global phase is turned so that ``sum(E . E)`` is real and positive (a
 standing-wave mode then has a nearly real E).
 
