@@ -11,8 +11,9 @@ frequency. :func:`ringprint.analysis.separation.separate` then removes the leaka
 between modes of known complex frequency exactly, and each mode's phasors are
 normalized to 1 J of stored energy (each node weighted by the volume it stands
 for, so a graded lattice is integrated correctly) with the phase of ``sum(E . E)``
-set to zero (:mod:`ringprint.analysis.fieldset`). The pass costs about as much as the first run
-again, plus the DFT sums (their share grows with the number of modes and the lattice).
+set to zero (:mod:`ringprint.analysis.fieldset`). The pass costs about as much as
+the first run again, plus the DFT sums (their share grows with the number of modes
+and the lattice).
 A run killed during this pass resumes from the first pass's last checkpoint and
 repeats the pass.
 """

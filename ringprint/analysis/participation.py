@@ -17,9 +17,9 @@ Rules (the report cites them):
 - For each part: the shares of the mode's time-averaged electric and magnetic
   energy inside and in the shell, each a fraction of the mode's whole stored energy
   in the computed region (every node weighted by the volume it stands for,
-  :meth:`~ringprint.analysis.fieldset.FieldSet.node_volumes`); ``share`` is their sum, the number the report quotes
-  ("mode 4, 2.41 GHz: 71 % bezel ring"). The energy in the air away from every
-  part is the rest.
+  :meth:`~ringprint.analysis.fieldset.FieldSet.node_volumes`); ``share`` is their
+  sum, the number the report quotes ("mode 4, 2.41 GHz: 71 % bezel ring"). The
+  energy in the air away from every part is the rest.
 - For conductors, ``surface_current``: the part's share of ``sum |H|^2`` over the
   air nodes next to a conductor (within ``SURFACE_CELLS`` cells), where
   ``|H_tan| = |J_s|``; it says which conductor carries the current, and so the
