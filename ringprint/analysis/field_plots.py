@@ -7,7 +7,8 @@ embed in the report (about 100-200 kB).
 - :func:`field_picture_png` -- three orthogonal slices through the point where the
   chosen quantity peaks (energy density by default), outlines of every part (each
   its own line style as well as its own colour, so the picture reads in grey), the
-  probe loop's outline, axes in mm.
+  probe loop's outline, axes in mm. Every node is drawn at its own coordinates, so
+  a graded lattice is not distorted.
 - :func:`touch_map_png` -- the predicted frequency shift at each touch point of the
   outer surface, seen along the three axes; the worst spots numbered.
 
@@ -186,6 +187,19 @@ def region_of_interest(fs: FieldSet, keep=()) -> tuple[slice, slice, slice]:
     return tuple(slice(int(a), int(b) + 1) for a, b in zip(lo, hi))
 
 
+def _slice_image(ax, horizontal, vertical, values, uniform: bool, **style):
+    """Node values (rows along ``vertical``) drawn at their coordinates: an image with
+    bilinear smoothing on a uniform lattice, a Gouraud-shaded mesh on the node
+    coordinates of a graded one (an image would spread its nodes evenly)."""
+    if uniform:
+        ext = [horizontal[0], horizontal[-1], vertical[0], vertical[-1]]
+        return ax.imshow(values, origin="lower", extent=ext, interpolation="bilinear",
+                         aspect="equal", **style)
+    mesh = ax.pcolormesh(horizontal, vertical, values, shading="gouraud", **style)
+    ax.set_aspect("equal")
+    return mesh
+
+
 def _three_panels(fig, first: int):
     """One large panel (looking along axis ``first``) on the left, two on the right;
     returns [(axes, view axis)] in that order."""
@@ -273,10 +287,8 @@ def field_picture_png(fs: FieldSet, mode, quantity: str = "energy") -> bytes:
     for ax, normal in panels:
         h, v = _plane(normal)
         cut = tuple(local[a] if a == normal else slice(None) for a in range(3))
-        ext = [axes[h][0], axes[h][-1], axes[v][0], axes[v][-1]]
-        image = ax.imshow(np.maximum(values[cut].T, floor), origin="lower", extent=ext,
-                          cmap="cividis", norm=LogNorm(vmin=floor, vmax=top),
-                          interpolation="bilinear", aspect="equal")
+        image = _slice_image(ax, axes[h], axes[v], np.maximum(values[cut].T, floor), fs.uniform,
+                             cmap="cividis", norm=LogNorm(vmin=floor, vmax=top))
         for (_, colour, style, _), mask in zip(handles, masks):
             cut_mask = mask[cut].astype(float)
             if 0 < cut_mask.sum() < cut_mask.size and min(cut_mask.shape) > 1:

@@ -4,7 +4,8 @@ After the modes are known: :func:`ringprint.analysis.mode_fields.compute_fields`
 (second pass), :func:`ringprint.analysis.participation.participation` per mode
 (into modes.json: ``participation``, ``participation_detail``, ``rings_in``; the
 hazard entries gain ``part``), the touch maps of :mod:`ringprint.analysis.touch`
-(modes.json ``touch``: the worst spots), then ``fields.h5`` and ``mode_NN.vti``.
+(modes.json ``touch``: the worst spots), then ``fields.h5`` and one VTK file per
+mode (``mode_NN.vti`` on a uniform lattice, ``mode_NN.vtr`` on a graded one).
 
 When the budget ``output.field_memory`` cannot hold the fields of all the modes
 found, the results are written without fields and a note says what to raise:
@@ -17,7 +18,8 @@ import logging
 
 from ringprint.analysis import lattice as lt
 from ringprint.analysis import touch
-from ringprint.analysis.fieldset_io import FIELDS_NAME, write_fieldset, write_mode_vti
+from ringprint.analysis.fieldset_io import (FIELDS_NAME, IMAGE_SUFFIX, RECTILINEAR_SUFFIX,
+                                            write_fieldset, write_mode_files)
 from ringprint.analysis.mode_fields import compute_fields
 from ringprint.analysis.participation import Regions, participation
 from ringprint.errors import RingprintError
@@ -34,7 +36,8 @@ FIRST_ORDER_LIMIT = 10.0
 
 def remove_stale(out_dir) -> None:
     """Delete field files a previous run left in ``out_dir`` (they would not match)."""
-    for path in [out_dir / FIELDS_NAME, *out_dir.glob("mode_[0-9]*.vti")]:
+    modes = [p for suffix in (IMAGE_SUFFIX, RECTILINEAR_SUFFIX) for p in out_dir.glob(f"mode_[0-9]*{suffix}")]
+    for path in [out_dir / FIELDS_NAME, *modes]:
         path.unlink(missing_ok=True)
 
 
@@ -63,7 +66,7 @@ def run_field_stage(model, probe, ring, modes, hazards, out_dir, notes, progress
     fs = compute_fields(model, probe, ring, modes, lat, progress=progress, notes=notes)
     log.info("mode fields on every %d grid node(s): %s points", fs.decimation,
              "x".join(str(n) for n in fs.shape))
-    regions = Regions(fs, model.grid.cell)
+    regions = Regions(fs)
     for m, mf in zip(modes, fs.modes):
         p = participation(fs, mf, regions)
         m["participation"] = p["share"]
@@ -89,5 +92,5 @@ def run_field_stage(model, probe, ring, modes, hazards, out_dir, notes, progress
                          f"{worst[0]['shift_percent']:.0f} % to first order, beyond the range "
                          "where first order holds; read it as strongly touch-sensitive")
     write_fieldset(out_dir / FIELDS_NAME, fs)
-    write_mode_vti(out_dir, fs)
+    write_mode_files(out_dir, fs)
     return fs

@@ -14,7 +14,9 @@ The scene (:func:`build_scene`) holds
 - the probe loop as a small black square (from ``fs.probe``);
 - the title "mode N, f, Q".
 
-Only the region around the parts is drawn
+On a graded lattice the scene is built on a VTK rectilinear grid (the node
+coordinates as they are), on a uniform one on image data. Only the region around the
+parts is drawn
 (:func:`~ringprint.analysis.field_plots.region_of_interest`), not the air padding
 and absorbing layer around them.
 
@@ -36,6 +38,7 @@ from ringprint.analysis.field_plots import (PART_COLOURS, field_quantity, flat_a
                                             peak_node, probe_corners, region_of_interest,
                                             resolve_mode)
 from ringprint.analysis.fieldset import FieldSet
+from ringprint.analysis.fieldset_io import lattice_dataset
 from ringprint.analysis.outputs import atomic_write_bytes
 from ringprint.errors import RingprintError
 
@@ -97,16 +100,13 @@ def _use_font(*properties) -> None:
 
 
 def _image(fs: FieldSet, roi):
-    """An empty pyvista image over the lattice nodes ``roi`` (three index ranges)."""
-    import pyvista as pv
-
-    axes = [a[r] for a, r in zip((fs.x, fs.y, fs.z), roi)]
-    shape = tuple(a.size for a in axes)
+    """An empty pyvista dataset over the lattice nodes ``roi`` (three index ranges): image
+    data on a uniform lattice, a rectilinear grid on a graded one."""
+    shape = tuple(len(range(*r.indices(n))) for r, n in zip(roi, fs.shape))
     if min(shape) < 2:
         raise RingprintError(f"the field lattice is {fs.shape} nodes; a 3-D view needs at least 2 "
                              "nodes along each axis, run the case with a smaller decimation")
-    return pv.ImageData(dimensions=shape, spacing=(fs.spacing,) * 3,
-                        origin=tuple(float(a[0]) for a in axes))
+    return lattice_dataset(fs, roi)
 
 
 def _add_parts(plotter, fs: FieldSet, image, roi) -> list:

@@ -1,21 +1,26 @@
 """Mode fields on one node lattice: the in-memory form of ``fields.h5``.
 
 Every mode's field is a complex phasor pair ``(E, H)`` sampled at the nodes of a
-uniform lattice (the solver grid, or every ``decimation``-th node of it), so that
+rectilinear lattice (the solver grid, or every ``decimation``-th node of it; the
+steps may differ from node to node on a graded grid), so that
 ``E(r, t) = Re[E(r) exp(-i w t)]``. Each pair is normalized to one joule of
 time-averaged stored energy in the region outside the absorbing layer,
 
     W = 1/4 sum( eps0 eps_r |E|^2 + mu0 |H|^2 ) dV = 1 J,
 
-with ``dV = spacing**3``, and its global phase is turned so that ``sum(E . E)`` is
-real and positive (a standing-wave mode then has a nearly real E).
+where ``dV`` is the volume each node stands for (:meth:`FieldSet.node_volumes`: the
+box reaching halfway to the neighbouring node along each axis, half a step beyond
+the end nodes; ``step**3`` everywhere on a uniform lattice),
+and its global phase is turned so that ``sum(E . E)`` is real and positive (a
+standing-wave mode then has a nearly real E).
 
 File layout of ``fields.h5`` (attributes in brackets)::
 
-    /                      [layout = 1, ringprint_version, case_digest, decimation,
-                            spacing_m, conductors (names), part_names (case order),
+    /                      [layout = 2, ringprint_version, case_digest, decimation,
+                            uniform (1 when every step is the same), step_min_m,
+                            step_max_m, conductors (names), part_names (case order),
                             probe_center_m, probe_normal, probe_size_m]
-    /axes/x, /axes/y, /axes/z      node coordinates (m), float64
+    /axes/x, /axes/y, /axes/z      node coordinates (m), float64: the lattice itself
     /media/eps_r, /media/sigma     (nx, ny, nz) float32 at the nodes (sigma in S/m)
     /media/pec                     (nx, ny, nz) uint8, 1 on conductor nodes
     /parts/<name>                  (nx, ny, nz) uint8 mask, 1 inside the part
@@ -25,6 +30,10 @@ File layout of ``fields.h5`` (attributes in brackets)::
     /touch/mode_NN/normals         (m, 3) outward unit normals
     /touch/mode_NN/shift_percent   (m,) predicted frequency shift (negative: down)
     /touch/mode_NN/q_after         (m,) predicted Q with the tissue present
+
+Layout 1 (before graded grids) had a scalar ``spacing_m`` instead of ``uniform``,
+``step_min_m`` and ``step_max_m``; everything else is the same, and it is read too
+(its lattice was always uniform).
 """
 
 from __future__ import annotations
@@ -37,7 +46,12 @@ from ringprint.errors import RingprintError
 from ringprint.fdtd import EPS0, MU0
 
 #: Version of the fields.h5 layout written by this module.
-LAYOUT = 1
+LAYOUT = 2
+#: Layouts :func:`ringprint.analysis.fieldset_io.read_fieldset` reads.
+READABLE_LAYOUTS = (1, 2)
+#: Relative difference of steps below which an axis counts as uniform (coordinates
+#: built as ``origin + h * arange(n)`` differ by rounding only).
+UNIFORM_RTOL = 1e-9
 
 
 def squared_magnitude(v: np.ndarray) -> np.ndarray:
@@ -46,10 +60,25 @@ def squared_magnitude(v: np.ndarray) -> np.ndarray:
         + np.einsum("c...,c...->...", v.imag, v.imag, dtype=float)
 
 
-def stored_energy(eps_r: np.ndarray, e: np.ndarray, h: np.ndarray, cell_volume: float) -> float:
-    """Time-averaged stored energy ``1/4 sum(eps0 eps_r |E|^2 + mu0 |H|^2) dV`` (J)."""
-    return 0.25 * cell_volume * (EPS0 * float(np.sum(eps_r * squared_magnitude(e)))
-                                 + MU0 * float(np.sum(squared_magnitude(h))))
+def stored_energy(eps_r: np.ndarray, e: np.ndarray, h: np.ndarray, volumes) -> float:
+    """Time-averaged stored energy ``1/4 sum(eps0 eps_r |E|^2 + mu0 |H|^2) dV`` (J).
+
+    ``volumes`` is the volume of each node (an array shaped like ``eps_r``, e.g.
+    :meth:`FieldSet.node_volumes`), or one number for a uniform lattice.
+    """
+    volumes = np.asarray(volumes, dtype=float)
+    if volumes.ndim == 0:
+        return 0.25 * float(volumes) * (EPS0 * float(np.sum(eps_r * squared_magnitude(e)))
+                                        + MU0 * float(np.sum(squared_magnitude(h))))
+    return 0.25 * (EPS0 * float(np.sum(volumes * eps_r * squared_magnitude(e)))
+                   + MU0 * float(np.sum(volumes * squared_magnitude(h))))
+
+
+def is_uniform(steps) -> bool:
+    """True when every step in the 1-D array ``steps`` equals the first (to
+    :data:`UNIFORM_RTOL`); an axis of one node (no step) counts as uniform."""
+    steps = np.asarray(steps, dtype=float)
+    return steps.size == 0 or bool(np.all(np.abs(steps - steps[0]) <= UNIFORM_RTOL * abs(steps[0])))
 
 
 @dataclass
@@ -100,12 +129,46 @@ class FieldSet:
         return (self.x.size, self.y.size, self.z.size)
 
     @property
+    def steps(self) -> tuple:
+        """Per axis, the distances between neighbouring lattice nodes (1-D arrays, m)."""
+        return tuple(np.diff(a) for a in (self.x, self.y, self.z))
+
+    @property
+    def uniform(self) -> bool:
+        """True when every step along every axis is the same (:func:`is_uniform`)."""
+        steps = [d for d in self.steps if d.size]
+        return all(is_uniform(d) for d in steps) and (not steps or is_uniform([d[0] for d in steps]))
+
+    @property
+    def min_step(self) -> float:
+        """Smallest lattice step (m); 0 for a lattice of one node."""
+        steps = [float(d.min()) for d in self.steps if d.size]
+        return min(steps) if steps else 0.0
+
+    @property
+    def max_step(self) -> float:
+        """Largest lattice step (m); 0 for a lattice of one node."""
+        steps = [float(d.max()) for d in self.steps if d.size]
+        return max(steps) if steps else 0.0
+
+    @property
     def spacing(self) -> float:
-        """Node spacing of the lattice (m); the lattice is uniform."""
+        """The one node spacing of a uniform lattice (m).
+
+        Raises
+        ------
+        RingprintError
+            On a non-uniform lattice, which has no single spacing: use
+            :attr:`steps`, :meth:`node_volumes` or :meth:`dual_lengths` instead.
+        """
+        if not self.uniform:
+            raise RingprintError("this field lattice is graded (its steps differ), so it has no single "
+                                 "spacing; use FieldSet.steps or FieldSet.node_volumes()")
         return float(self.x[1] - self.x[0]) if self.x.size > 1 else 0.0
 
     @property
     def cell_volume(self) -> float:
+        """``spacing**3`` of a uniform lattice (refused on a graded one, like :attr:`spacing`)."""
         return self.spacing ** 3
 
     def dual_lengths(self) -> tuple:
@@ -141,15 +204,24 @@ class FieldSet:
 
     def electric_density(self, mode: ModeField) -> np.ndarray:
         """Time-averaged electric energy density ``eps0 eps_r |E|^2 / 4`` (J/m^3)."""
-        return 0.25 * EPS0 * self.eps_r * squared_magnitude(mode.e)
+        # float64 first: 0.25 * EPS0 * eps_r would be rounded to eps_r's float32
+        return squared_magnitude(mode.e) * self.eps_r * (0.25 * EPS0)
 
     def magnetic_density(self, mode: ModeField) -> np.ndarray:
         """Time-averaged magnetic energy density ``mu0 |H|^2 / 4`` (J/m^3)."""
         return 0.25 * MU0 * squared_magnitude(mode.h)
 
     def energy_density(self, mode: ModeField) -> np.ndarray:
-        """Time-averaged stored energy density (J/m^3); sums to 1 J times 1/dV."""
+        """Time-averaged stored energy density (J/m^3); weighted by :meth:`node_volumes`
+        it sums to the mode's stored energy (1 J)."""
         return self.electric_density(mode) + self.magnetic_density(mode)
+
+    def integrate(self, values: np.ndarray) -> float:
+        """``sum(values * dV)`` over the lattice for a node array ``values`` shaped like
+        the lattice, with ``dV`` the node volumes (without building them)."""
+        wx, wy, wz = self.dual_lengths()
+        return float(np.einsum("ijk,i,j,k->", np.asarray(values, dtype=float), wx, wy, wz,
+                               optimize=True))
 
     def solid(self) -> np.ndarray:
         """Nodes inside any part."""

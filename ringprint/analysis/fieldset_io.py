@@ -1,7 +1,11 @@
-"""Write and read ``fields.h5`` and write one VTK image file per mode.
+"""Write and read ``fields.h5`` and write one VTK file per mode.
 
-The HDF5 layout is documented in :mod:`ringprint.analysis.fieldset`. Files are
-written under a temporary name and renamed when complete.
+The HDF5 layout is documented in :mod:`ringprint.analysis.fieldset`; layout 1 files
+(uniform lattices, before graded grids) are read as well. The per-mode VTK file is
+``mode_NN.vti`` (VTK image data: origin and one spacing) on a uniform lattice and
+``mode_NN.vtr`` (VTK rectilinear grid: the three node coordinate vectors) on a graded
+one, with the same point arrays. Files are written under a temporary name and renamed
+when complete.
 """
 
 from __future__ import annotations
@@ -12,11 +16,13 @@ import h5py
 import numpy as np
 
 from ringprint import __version__
-from ringprint.analysis.fieldset import LAYOUT, FieldSet, ModeField, TouchMap
+from ringprint.analysis.fieldset import LAYOUT, READABLE_LAYOUTS, FieldSet, ModeField, TouchMap
 from ringprint.analysis.outputs import atomic_path
 from ringprint.errors import RingprintError
 
 FIELDS_NAME = "fields.h5"
+#: Suffixes of the per-mode VTK files: uniform lattice, graded lattice.
+IMAGE_SUFFIX, RECTILINEAR_SUFFIX = ".vti", ".vtr"
 
 
 def mode_key(index: int) -> str:
@@ -31,7 +37,9 @@ def write_fieldset(path, fs: FieldSet) -> Path:
         f.attrs["ringprint_version"] = __version__
         f.attrs["case_digest"] = fs.digest
         f.attrs["decimation"] = int(fs.decimation)
-        f.attrs["spacing_m"] = fs.spacing
+        f.attrs["uniform"] = np.uint8(fs.uniform)
+        f.attrs["step_min_m"] = fs.min_step
+        f.attrs["step_max_m"] = fs.max_step
         f.attrs["part_names"] = list(fs.parts)
         f.attrs["conductors"] = list(fs.conductors)
         if fs.probe is not None:
@@ -83,9 +91,11 @@ def read_fieldset(path) -> FieldSet:
         raise RingprintError(f"{path}: not a readable HDF5 file ({exc}); run the case again") from None
     with f:
         layout = f.attrs.get("layout")
-        if layout != LAYOUT:
-            raise RingprintError(f"{path}: field file layout {layout!r}, this ringprint reads layout "
-                                 f"{LAYOUT}; run the case again with this version")
+        layout = layout.item() if isinstance(layout, np.generic) else layout   # 3, not np.int64(3)
+        if layout not in READABLE_LAYOUTS:
+            raise RingprintError(f"{path}: field file layout {layout!r}, this ringprint reads layouts "
+                                 f"{', '.join(map(str, READABLE_LAYOUTS))}; run the case again with "
+                                 "this version")
         try:
             return _read(f)
         except KeyError as exc:
@@ -117,12 +127,29 @@ def _read(f) -> FieldSet:
                     digest=str(f.attrs["case_digest"]))
 
 
-def mode_image(fs: FieldSet, mode: ModeField):
-    """A pyvista ImageData of one mode: |E|, |H|, energy density, Re/Im of E and H, parts."""
+def mode_suffix(fs: FieldSet) -> str:
+    """``.vti`` for a uniform lattice, ``.vtr`` for a graded one."""
+    return IMAGE_SUFFIX if fs.uniform else RECTILINEAR_SUFFIX
+
+
+def lattice_dataset(fs: FieldSet, roi=(slice(None),) * 3):
+    """An empty pyvista dataset over the lattice nodes ``roi`` (three index ranges): an
+    ImageData on a uniform lattice, a RectilinearGrid on a graded one. Its points run
+    x fastest (flatten node arrays with ``order="F"``)."""
     import pyvista as pv
 
-    img = pv.ImageData(dimensions=fs.shape, spacing=(fs.spacing,) * 3,
-                       origin=(float(fs.x[0]), float(fs.y[0]), float(fs.z[0])))
+    axes = [np.asarray(a[r], float) for a, r in zip((fs.x, fs.y, fs.z), roi)]
+    if fs.uniform:
+        step = fs.spacing
+        return pv.ImageData(dimensions=tuple(a.size for a in axes), spacing=(step,) * 3,
+                            origin=tuple(float(a[0]) for a in axes))
+    return pv.RectilinearGrid(*axes)
+
+
+def mode_image(fs: FieldSet, mode: ModeField):
+    """The VTK dataset of one mode (:func:`lattice_dataset`): |E|, |H|, energy density,
+    Re/Im of E and H, eps_r, part index."""
+    img = lattice_dataset(fs)
 
     def flat(a):  # VTK point order: x fastest; vectors as (n, 3)
         a = np.asarray(a)
@@ -146,11 +173,12 @@ def mode_image(fs: FieldSet, mode: ModeField):
     return img
 
 
-def write_mode_vti(out_dir, fs: FieldSet) -> list[Path]:
-    """One ``mode_NN.vti`` per mode in ``out_dir`` (VTK XML image data, any VTK viewer)."""
+def write_mode_files(out_dir, fs: FieldSet) -> list[Path]:
+    """One ``mode_NN.vti`` (uniform lattice) or ``mode_NN.vtr`` (graded) per mode in
+    ``out_dir`` (VTK XML, any VTK viewer)."""
     written = []
     for m in fs.modes:
-        path = Path(out_dir) / f"{mode_key(m.index)}.vti"
+        path = Path(out_dir) / f"{mode_key(m.index)}{mode_suffix(fs)}"
         with atomic_path(path) as tmp:
             mode_image(fs, m).save(tmp, binary=True)
         written.append(path)

@@ -16,6 +16,11 @@ Rules:
   the nodes their surface passes through (the node rule of the model). On a lattice
   coarser than the grid a lattice node takes a part when any grid node within half a
   stride does, so thin parts are not lost between lattice nodes.
+
+Every rule above counts grid nodes and edges by index, never by metres, so it holds
+unchanged on a graded grid (the lattice then has unequal steps, taken from the grid's
+own node coordinates; the field consumers weight nodes by
+:meth:`~ringprint.analysis.fieldset.FieldSet.node_volumes`).
 """
 
 from __future__ import annotations

@@ -9,9 +9,11 @@ steps; from the end of the source on, every ``every`` steps (about
 :mod:`ringprint.analysis.lattice` into one running DFT per mode, at the mode's
 frequency. :func:`ringprint.analysis.separation.separate` then removes the leakage
 between modes of known complex frequency exactly, and each mode's phasors are
-normalized to 1 J of stored energy with the phase of ``sum(E . E)`` set to zero
-(:mod:`ringprint.analysis.fieldset`). The pass costs about as much as the first run
-again, plus the DFT sums (their share grows with the number of modes and the lattice).
+normalized to 1 J of stored energy (each node weighted by the volume it stands
+for, so a graded lattice is integrated correctly) with the phase of ``sum(E . E)``
+set to zero (:mod:`ringprint.analysis.fieldset`). The pass costs about as much as
+the first run again, plus the DFT sums (their share grows with the number of modes
+and the lattice).
 A run killed during this pass resumes from the first pass's last checkpoint and
 repeats the pass.
 """
@@ -39,17 +41,26 @@ def sample_every(dt: float, f_max: float) -> int:
     return max(1, int(1.0 / (SAMPLES_PER_PERIOD * f_max * dt)))
 
 
-def normalize(e: np.ndarray, h: np.ndarray, eps_r: np.ndarray, cell_volume: float):
+def normalize(e: np.ndarray, h: np.ndarray, eps_r: np.ndarray, volumes):
     """Scale and turn ``(E, H)`` to 1 J of stored energy and a real ``sum(E . E)``.
 
-    Stored energy ``W = 1/4 sum(eps0 eps_r |E|^2 + mu0 |H|^2) dV`` (time average).
+    Stored energy ``W = 1/4 sum(eps0 eps_r |E|^2 + mu0 |H|^2) dV`` (time average),
+    ``dV`` the node volumes (an array shaped like ``eps_r``, or one number on a
+    uniform lattice; :meth:`ringprint.analysis.fieldset.FieldSet.node_volumes`).
     """
-    w = stored_energy(eps_r, e, h, cell_volume)
+    w = stored_energy(eps_r, e, h, volumes)
     if not (w > 0 and np.isfinite(w)):
         return e, h
     turn = np.exp(-0.5j * np.angle(np.sum(e * e)))
     scale = turn / math.sqrt(w)
     return e * scale, h * scale
+
+
+def loop_side_m(grid, probe) -> float:
+    """Side of the probe loop (m) as the solver lays it: the sum of its edge lengths / 4
+    (on a graded grid its cells need not all be ``grid.cell`` wide)."""
+    edges = fdtd.sources.loop_edges(fdtd.Grid(*grid.axes), probe.center, probe.normal, probe.size_cells)
+    return float(sum(np.sum(length) for *_, length in edges)) / 4.0
 
 
 def compute_fields(model, probe, ring, modes, lat: lt.Lattice, progress=None, notes=None) -> FieldSet:
@@ -82,7 +93,7 @@ def compute_fields(model, probe, ring, modes, lat: lt.Lattice, progress=None, no
                   conductors=tuple(p.name for p in model.parts if p.is_conductor),
                   decimation=lat.stride, digest=model.case.digest(),
                   probe={"center_m": [float(v) for v in probe.center], "normal": probe.normal,
-                         "size_m": float(probe.size_cells * model.grid.cell)})
+                         "size_m": loop_side_m(model.grid, probe)})
     if not modes:
         return fs
     f = np.array([m["frequency_hz"] for m in modes])
@@ -105,8 +116,9 @@ def compute_fields(model, probe, ring, modes, lat: lt.Lattice, progress=None, no
     if notes is not None and cond > MIXING_CONDITION:
         notes.append(f"mode fields: some modes lie too close to tell their fields apart cleanly "
                      f"(condition {cond:.3g}); their field pictures may mix")
+    volumes = fs.node_volumes()
     for k, m in enumerate(modes):
-        ek, hk = normalize(e[k], h[k], eps_r, fs.cell_volume)
+        ek, hk = normalize(e[k], h[k], eps_r, volumes)
         fs.modes.append(ModeField(int(m["index"]), float(m["frequency_hz"]), float(m["q"]),
                                   ek.astype(np.complex64), hk.astype(np.complex64)))
     return fs

@@ -83,7 +83,8 @@ def _case_summary(case, model) -> dict:
 def _grid_summary(model) -> dict:
     g = model.grid
     return {"nodes": list(g.shape), "cells": int(np.prod(np.subtract(g.shape, 1))),
-            "step_min_m": float(g.cell), "step_max_m": float(g.cell),
+            "step_min_m": float(min(np.diff(a).min() for a in g.axes)),
+            "step_max_m": float(max(np.diff(a).max() for a in g.axes)),
             "cpml_cells": int(g.boundary_cells), "padding_m": float(g.padding),
             "origin_m": [float(g.x[0]), float(g.y[0]), float(g.z[0])]}
 
@@ -215,7 +216,9 @@ def run_case(case_path, out_dir=None, resume: bool = False, progress: bool | Non
                     "pickups": ring.names},
             "notes": notes,
             "fields": None if fs is None else {
-                "file": "fields.h5", "lattice_step_m": fs.spacing, "decimation": fs.decimation,
+                "file": "fields.h5", "lattice_step_m": fs.spacing if fs.uniform else None,
+                "lattice_step_min_m": fs.min_step,
+                "lattice_step_max_m": fs.max_step, "uniform": fs.uniform, "decimation": fs.decimation,
                 "nodes": list(fs.shape), "normalization": "1 J stored energy per mode"},
         }
         spectrum = {"record": ring.signals[ring.probe_signal], "dt_s": ring.dt,

@@ -11,11 +11,15 @@ families of modes from a probe on its symmetry plane. So (rules the report cites
   :data:`PROBE_DIRECTION`, which is on no symmetry plane of a box, cylinder or
   sphere aligned with the axes, and step outward along that direction in half cells
   until the loop and one cell around it are air (no dielectric, no conductor).
+  "A cell" here is the local one (:func:`local_step`): on a graded grid the
+  smallest cell at the starting vertex, the nominal cell on a uniform grid.
   The loop's normal is the axis along which that direction is smallest, so the loop
   lies roughly across the part's surface and its field runs along it, where surface
-  currents couple. Side: one cell unless the case says otherwise.
+  currents couple. Side: one cell unless the case says otherwise; a case side
+  ``size`` becomes the whole number of cells nearest ``size`` divided by the mean
+  of the two in-plane cells at the loop's centre.
 - **Pickups**: the loop's own EMF; near-field points beside every part along three
-  irregular directions, one or two cells out in air, cycling through all six field
+  irregular directions, one or two (local) cells out in air, cycling through all six field
   components; and one point inside each dielectric part (an edge at least 99 %
   inside it), recording the E component along that edge and its two neighbours.
 """
@@ -26,6 +30,7 @@ from dataclasses import dataclass
 
 import numpy as np
 
+from ringprint.analysis.fieldset import is_uniform
 from ringprint.errors import RingprintError
 
 #: Direction used to find an off-symmetry spot next to a part (not on any axis plane).
@@ -86,9 +91,27 @@ def _loop_is_free(model, center, normal, size_cells, margin=1, conductors_only=F
     return _interior(model, idx, half + margin) and _air_box(model, lo, hi, conductors_only)
 
 
-def _walk_out(model, start, direction, fits, max_steps):
-    """First point ``start + t direction`` (t in half cells) where ``fits(point)``."""
-    h = model.grid.cell
+def local_steps(model, point) -> np.ndarray:
+    """The cell size near ``point`` along x, y, z (m): at the nearest node, the mean of
+    the two cells meeting there (the one cell at an end node). On a uniform grid this
+    is ``grid.cell`` on every axis."""
+    out = []
+    for ax, i in zip(model.grid.axes, _node_index(model, point)):
+        d = np.diff(ax)
+        if is_uniform(np.append(d, model.grid.cell)):   # every cell the nominal one
+            out.append(float(model.grid.cell))
+            continue
+        out.append(float(np.mean(d[max(i - 1, 0):min(i + 1, d.size)])))
+    return np.array(out)
+
+
+def local_step(model, point) -> float:
+    """The smallest of :func:`local_steps` at ``point`` (m): the walking unit."""
+    return float(local_steps(model, point).min())
+
+
+def _walk_out(model, start, direction, fits, max_steps, h):
+    """First point ``start + t direction`` (t in half cells of size h) where ``fits(point)``."""
     for k in range(max_steps):
         point = start + (0.5 * h * k) * direction
         if fits(point):
@@ -115,10 +138,11 @@ def place_probe(model) -> ProbePlacement:
         free spot found automatically.
     """
     case = model.case
-    h = model.grid.cell
     if case.probe is not None:
         p = case.probe
-        size = max(1, int(round(p.size_m / h)))
+        a = AXES.index(p.normal)
+        in_plane = np.delete(local_steps(model, np.asarray(p.at_m)), a)
+        size = max(1, int(round(p.size_m / float(np.mean(in_plane)))))
         if not _loop_is_free(model, np.asarray(p.at_m), p.normal, size, margin=0, conductors_only=True):
             at = ", ".join(f"{v / case.unit_m:g}" for v in p.at_m)
             raise RingprintError(
@@ -130,8 +154,9 @@ def place_probe(model) -> ProbePlacement:
     verts = model.vertices(part)
     start = verts[np.argmax(verts @ PROBE_DIRECTION)]
     normal = AXES[int(np.argmin(np.abs(PROBE_DIRECTION)))]
+    h = local_step(model, start)
     steps = int(2 * (model.grid.padding / h)) + 4
-    point = _walk_out(model, start, PROBE_DIRECTION, lambda q: _loop_is_free(model, q, normal, 1), steps)
+    point = _walk_out(model, start, PROBE_DIRECTION, lambda q: _loop_is_free(model, q, normal, 1), steps, h)
     if point is None:
         raise RingprintError(
             f"{case.source}: no free spot for the loop probe next to part {part.name!r}; give "
@@ -143,15 +168,16 @@ def pickup_points(model) -> list[tuple[str, tuple]]:
     """``[(component, point), ...]`` for the extra pickups (see module docstring)."""
     out = []
     k = 0
-    h = model.grid.cell
-    steps = int(2 * (model.grid.padding / h)) + 4
     for part in model.parts:
         verts = model.vertices(part)
         for d in PICKUP_DIRECTIONS:
-            start = verts[np.argmax(verts @ d)] + 1.5 * h * d
+            vertex = verts[np.argmax(verts @ d)]
+            h = local_step(model, vertex)
+            steps = int(2 * (model.grid.padding / h)) + 4
+            start = vertex + 1.5 * h * d
             ok = lambda q: _interior(model, _node_index(model, q), 1) and _air_box(  # noqa: E731
                 model, _node_index(model, q) - 1, _node_index(model, q) + 1)
-            point = _walk_out(model, start, d, ok, steps)
+            point = _walk_out(model, start, d, ok, steps, h)
             if point is not None:
                 out.append((FIELD_COMPONENTS[k % 6], tuple(map(float, point))))
                 k += 1

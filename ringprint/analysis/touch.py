@@ -58,33 +58,25 @@ loss follows the quasi-static field. So read the map as a ranking of spots and a
 bound on the detuning. For the size of the effect, run the full-wave model with the
 tissue in place.
 
-The map (:func:`touch_map`). Touch points are the exterior air nodes next to the solid
-(exterior: air connected to the lattice boundary, so air sealed inside a part is never
-touched). Each point's outward normal is minus the gradient of the solid indicator
-smoothed by a Gaussian of one node. The pad at a touch point is every exterior node
-within ``pad_radius_m`` of it: a ball of tissue cut by the surface, about a fingertip
-pressed flat (default radius 5 mm, a contact about 10 mm across, common practice). On a
-coarse lattice (radius below one spacing) the pad is the touch node alone. Every
-point is computed at once: the products ``Re(E_a E_b*)`` over exterior nodes are
-convolved with the ball (FFT) and combined with each point's normal.
+The map (:func:`touch_map`): touch points, normals and pads as
+:mod:`ringprint.analysis.touch_surface` describes.
 """
 
 from __future__ import annotations
 
 import numbers
-import os
 
 import numpy as np
-import scipy.fft
-from scipy import ndimage, signal
 
 from ringprint.analysis.fieldset import FieldSet, ModeField, TouchMap, stored_energy
 from ringprint.analysis.tissue import tissue_permittivity
+from ringprint.analysis.touch_surface import (PAD_METHODS, TouchSurface, exterior_air, pad_sums,
+                                              solid_nodes, touch_points)
 from ringprint.errors import RingprintError
 from ringprint.fdtd import EPS0
 
-__all__ = ["DEFAULT_PAD_RADIUS_M", "exterior_air", "perturbation_shift", "q_after", "shift_percent",
-           "touch_map", "touch_maps", "touch_points", "worst_spots"]
+__all__ = ["DEFAULT_PAD_RADIUS_M", "PAD_METHODS", "exterior_air", "perturbation_shift", "q_after",
+           "shift_percent", "touch_map", "touch_maps", "touch_points", "worst_spots"]
 
 #: Default pad radius (m): a fingertip contact about 10 mm across (common practice).
 DEFAULT_PAD_RADIUS_M = 5e-3
@@ -122,7 +114,6 @@ def local_factor(eps_t: complex, n_depol: float) -> complex:
     """``E_in / E0 = 1 / (1 + N (eps_t - 1))`` along an axis of depolarization factor N."""
     return 1.0 / (1.0 + n_depol * (eps_t - 1.0))
 
-_PAIRS = ((0, 0), (1, 1), (2, 2), (0, 1), (0, 2), (1, 2))
 
 
 def _mode(fs: FieldSet, mode) -> ModeField:
@@ -158,7 +149,7 @@ def _eps_tissue(tissue, frequency_hz: float) -> complex:
 
 def _energy4(fs: FieldSet, m: ModeField) -> float:
     """``Int(eps |E|^2 + mu0 |H|^2) dV`` over the lattice (four times the stored energy)."""
-    total = 4.0 * stored_energy(fs.eps_r, m.e, m.h, fs.cell_volume)
+    total = 4.0 * stored_energy(fs.eps_r, m.e, m.h, fs.node_volumes())
     if not total > 0:
         raise RingprintError(f"mode {m.index} has no stored energy on the lattice; its fields are empty")
     return total
@@ -219,20 +210,21 @@ def perturbation_shift(fs: FieldSet, mode, region, eps_tissue, normal=None,
                              f"got {region.dtype} {region.shape}")
     if not region.any():
         raise RingprintError("region selects no node; give at least one air node")
-    if (region & _solid(fs)).any():
+    if (region & solid_nodes(fs)).any():
         raise RingprintError("region overlaps a part; tissue can only replace air nodes")
     eps_t = _eps_tissue(eps_tissue, m.frequency_hz)
     e = m.e[:, region].astype(complex)
-    s = float(np.sum(np.abs(e) ** 2))
+    dv = fs.node_volumes()[region]
+    s = float(np.sum(dv * np.sum(np.abs(e) ** 2, axis=0)))
     if normal is not None:
         n_n, n_t = THIN_PAD_DEPOLARIZATION if depolarization is None else _pair(depolarization)
         n = _unit(normal)
-        en2 = float(np.sum(np.abs(np.einsum("c,cp->p", n, e)) ** 2))
+        en2 = float(np.sum(dv * np.abs(np.einsum("c,cp->p", n, e)) ** 2))
         l_n, l_t = local_factor(eps_t, n_n), local_factor(eps_t, n_t)
         s = l_t * s + (l_n - l_t) * en2
     elif depolarization is not None:
         s = local_factor(eps_t, _factor(depolarization)) * s
-    return complex(-EPS0 * (eps_t - 1.0) * s * fs.cell_volume / _energy4(fs, m))
+    return complex(-EPS0 * (eps_t - 1.0) * s / _energy4(fs, m))
 
 
 def _factor(v) -> float:
@@ -280,104 +272,20 @@ def q_after(delta, q):
         return np.where(den > 0, num / np.where(den > 0, den, 1.0), np.inf)
 
 
-def _solid(fs: FieldSet) -> np.ndarray:
-    return fs.solid() | np.asarray(fs.pec, dtype=bool)
-
-
-def exterior_air(fs: FieldSet) -> np.ndarray:
-    """Air nodes connected (6-neighbour) to the lattice boundary: the air a hand can reach."""
-    solid = _solid(fs)
-    if not solid.any():
-        raise RingprintError("the lattice has no solid part to touch; a touch map needs at least one part")
-    labels, _ = ndimage.label(~solid)
-    faces = np.concatenate([labels[[0, -1]].ravel(), labels[:, [0, -1]].ravel(),
-                            labels[:, :, [0, -1]].ravel()])
-    outside = np.unique(faces[faces > 0])
-    if outside.size == 0:
-        raise RingprintError("no air reaches the lattice boundary, so nothing can be touched; "
-                             "leave air around the parts")
-    return np.isin(labels, outside)
-
-
-def touch_points(fs: FieldSet, exterior: np.ndarray | None = None):
-    """Touch nodes and their outward unit normals.
-
-    Returns ``(index (m, 3) int, normals (m, 3))``: exterior air nodes with a solid
-    6-neighbour, and minus the gradient (central differences) of the solid indicator
-    smoothed by a Gaussian of one node. Where that gradient vanishes (a node midway in
-    a one-node slot) the normal is the axis with most solid neighbours; its sign is
-    then arbitrary, which the local-field correction does not see.
-    """
-    solid = _solid(fs)
-    ext = exterior_air(fs) if exterior is None else exterior
-    idx = np.argwhere(ext & ndimage.binary_dilation(solid))
-    if idx.shape[0] == 0:
-        raise RingprintError("no outside air node touches a part, so nothing can be touched; "
-                             "leave air around the parts")
-    smooth = ndimage.gaussian_filter(solid.astype(np.float32), sigma=1.0, mode="nearest")
-    grad = np.empty((idx.shape[0], 3))
-    counts = np.zeros((idx.shape[0], 3))
-    for a in range(3):
-        up, down = idx.copy(), idx.copy()
-        up[:, a] = np.minimum(idx[:, a] + 1, fs.shape[a] - 1)
-        down[:, a] = np.maximum(idx[:, a] - 1, 0)
-        grad[:, a] = smooth[tuple(up.T)] - smooth[tuple(down.T)]
-        counts[:, a] = (solid[tuple(up.T)] & (up[:, a] != idx[:, a])).astype(float) \
-            + (solid[tuple(down.T)] & (down[:, a] != idx[:, a]))
-    normals = -grad
-    size = np.linalg.norm(normals, axis=1)
-    flat = size <= 1e-6
-    normals[flat] = np.eye(3)[np.argmax(counts[flat], axis=1)]
-    size[flat] = 1.0
-    return idx, normals / size[:, None]
-
-
-def _ball(radius_nodes: float) -> np.ndarray:
-    r = int(np.floor(radius_nodes + 1e-9))
-    o = np.arange(-r, r + 1)
-    d2 = o[:, None, None] ** 2 + o[None, :, None] ** 2 + o[None, None, :] ** 2
-    return (d2 <= radius_nodes ** 2 + 1e-9).astype(float)
-
-
-class _Surface:
-    """What every mode's map shares: touch nodes, normals, the pad kernel and the crop box."""
-
-    def __init__(self, fs: FieldSet, pad_radius_m: float):
-        if not (isinstance(pad_radius_m, numbers.Real) and np.isfinite(pad_radius_m) and pad_radius_m >= 0):
-            raise RingprintError(f"pad_radius_m must be a length >= 0 in metres, got {pad_radius_m!r}")
-        if not fs.spacing > 0:
-            raise RingprintError("the lattice needs at least two nodes along x to know its spacing")
-        self.exterior = exterior_air(fs)
-        self.index, self.normals = touch_points(fs, self.exterior)
-        self.kernel = _ball(pad_radius_m / fs.spacing)
-        r = self.kernel.shape[0] // 2
-        lo = np.maximum(self.index.min(axis=0) - r, 0)
-        hi = np.minimum(self.index.max(axis=0) + r + 1, fs.shape)
-        self.box = tuple(slice(a, b) for a, b in zip(lo, hi))
-        self.local = tuple((self.index - lo).T)
-        self.points = np.stack([fs.x[self.index[:, 0]], fs.y[self.index[:, 1]],
-                                fs.z[self.index[:, 2]]], axis=1)
-
-
-def _shifts(fs: FieldSet, m: ModeField, surf: _Surface, eps_t: complex,
+def _shifts(fs: FieldSet, m: ModeField, surf: TouchSurface, eps_t: complex,
             depolarization=FINGERTIP_DEPOLARIZATION) -> np.ndarray:
     """``delta`` at every touch point (see the module docstring)."""
-    e = m.e[(slice(None), *surf.box)].astype(complex)
-    ext = surf.exterior[surf.box]
-    products = np.stack([np.where(ext, (e[a] * np.conj(e[b])).real, 0.0) for a, b in _PAIRS])
-    with scipy.fft.set_workers(os.cpu_count() or 1):
-        pads = signal.fftconvolve(products, surf.kernel[None], mode="same", axes=(1, 2, 3))
-    at = pads[(slice(None), *surf.local)]          # (6, m)
+    at = pad_sums(fs, m, surf)                   # (6, m)
     n = surf.normals.T
     total = at[0] + at[1] + at[2]
     normal = (n[0] ** 2 * at[0] + n[1] ** 2 * at[1] + n[2] ** 2 * at[2]
               + 2.0 * (n[0] * n[1] * at[3] + n[0] * n[2] * at[4] + n[1] * n[2] * at[5]))
     l_n, l_t = (local_factor(eps_t, v) for v in depolarization)
     s = l_t * total + (l_n - l_t) * normal
-    return -EPS0 * (eps_t - 1.0) * s * fs.cell_volume / _energy4(fs, m)
+    return -EPS0 * (eps_t - 1.0) * s / _energy4(fs, m)
 
 
-def _map(fs: FieldSet, mode, tissue, surf: _Surface, depolarization=FINGERTIP_DEPOLARIZATION) -> TouchMap:
+def _map(fs: FieldSet, mode, tissue, surf: TouchSurface, depolarization=FINGERTIP_DEPOLARIZATION) -> TouchMap:
     m = _mode(fs, mode)
     delta = _shifts(fs, m, surf, _eps_tissue(tissue, m.frequency_hz), _pair(depolarization))
     return TouchMap(points=surf.points.copy(), normals=surf.normals.copy(),
@@ -385,7 +293,7 @@ def _map(fs: FieldSet, mode, tissue, surf: _Surface, depolarization=FINGERTIP_DE
 
 
 def touch_map(fs: FieldSet, mode, tissue="skin_dry", pad_radius_m: float = DEFAULT_PAD_RADIUS_M,
-              depolarization=FINGERTIP_DEPOLARIZATION) -> TouchMap:
+              depolarization=FINGERTIP_DEPOLARIZATION, method: str = "auto") -> TouchMap:
     """Predicted detuning of one mode by a fingertip at every touch point of the outer surface.
 
     Parameters
@@ -402,6 +310,10 @@ def touch_map(fs: FieldSet, mode, tissue="skin_dry", pad_radius_m: float = DEFAU
     depolarization : (float, float)
         ``(N_n, N_t)`` of the pad for its local field; default the pressed fingertip
         (:data:`FINGERTIP_DEPOLARIZATION`), :data:`THIN_PAD_DEPOLARIZATION` for a thin pad.
+    method : {"auto", "fft", "direct"}
+        How the pad sums are taken (module docstring): "auto" uses the FFT on a uniform
+        lattice and the direct neighbourhood sum on a graded one; "fft" needs a
+        uniform lattice.
 
     Returns
     -------
@@ -417,17 +329,19 @@ def touch_map(fs: FieldSet, mode, tissue="skin_dry", pad_radius_m: float = DEFAU
     ----------
     Harrington, R. F., *Time-Harmonic Electromagnetic Fields*, McGraw-Hill, 1961,
     sec. 7-2 (cavity perturbation); Stratton, J. A., *Electromagnetic Theory*, 1941,
-    sec. 3.27 (field inside an ellipsoid: the pad's local field).
+    sec. 3.27 (field inside an ellipsoid: the pad's local field); Bentley, J. L.,
+    "Multidimensional binary search trees used for associative searching", Commun.
+    ACM 18(9):509-517, 1975 (k-d tree: the pads of a graded lattice).
     """
     m = _mode(fs, mode)
     _eps_tissue(tissue, m.frequency_hz)          # refuse a bad tissue before the geometry work
-    return _map(fs, m, tissue, _Surface(fs, pad_radius_m), depolarization)
+    return _map(fs, m, tissue, TouchSurface(fs, pad_radius_m, method), depolarization)
 
 
 def touch_maps(fs: FieldSet, tissue="skin_dry", pad_radius_m: float = DEFAULT_PAD_RADIUS_M,
-               depolarization=FINGERTIP_DEPOLARIZATION) -> dict:
+               depolarization=FINGERTIP_DEPOLARIZATION, method: str = "auto") -> dict:
     """:func:`touch_map` for every mode of ``fs``: ``{mode index: TouchMap}`` (surface found once)."""
-    surf = _Surface(fs, pad_radius_m)
+    surf = TouchSurface(fs, pad_radius_m, method)
     return {m.index: _map(fs, m, tissue, surf, depolarization) for m in fs.modes}
 
 

@@ -3,8 +3,16 @@
 A :class:`NodeDft` added to a :class:`~ringprint.fdtd.Simulation` accumulates, every
 ``every`` steps from ``start_step`` on, the sums ``sum_n F(t_n) exp(i w_q t_n)`` of
 all six field components at the frequencies ``w_q``, on the grid nodes
-``lo + stride * m`` of a box (by default the region outside the CPML). The E
-components are taken at ``t_n = n dt`` and the H components at ``(n - 1/2) dt``
+``lo + stride * m`` of a box (by default the region outside the CPML).
+
+A field component at a node is interpolated from the Yee samples around it, by
+distance along each axis: E_x from the two x-edges meeting at node i (centres
+``x[i] - d[i-1]/2`` and ``x[i] + d[i]/2``) with weights ``d[i] / (d[i-1] + d[i])``
+and ``d[i-1] / (d[i-1] + d[i])`` (linear interpolation), H_x from its four faces
+with the products of those weights along y and z (bilinear). On a uniform grid every
+weight is 1/2 and the node value is the plain mean of the two edges or four faces.
+
+The E components are taken at ``t_n = n dt`` and the H components at ``(n - 1/2) dt``
 (the Yee half step), so both sums carry the same phase reference; the exact sample
 times are kept (:attr:`NodeDft.times_e`, :attr:`NodeDft.times_h`) for callers that
 model the leakage between frequencies. Sums are accumulated in complex128
@@ -20,6 +28,19 @@ from ringprint.fdtd import _dft_kernels as K
 
 #: Bytes per lattice point and frequency of the accumulators (6 complex128).
 BYTES_PER_POINT_FREQ = 6 * 16
+
+
+def node_weights(steps: np.ndarray, nodes: np.ndarray) -> np.ndarray:
+    """Linear-interpolation weights (2, n) at the inner ``nodes`` of an axis whose cell
+    sizes are ``steps``: row 0 for the sample centred below each node (index i - 1),
+    row 1 for the one above (index i); 1/2 each on a uniform axis.
+
+    References
+    ----------
+    Yee, K. S., IEEE Trans. Antennas Propag. 14(3):302-307, 1966 (sample positions).
+    """
+    below, above = steps[nodes - 1], steps[nodes]
+    return np.ascontiguousarray(np.stack([above, below]) / (below + above))
 
 
 class NodeDft:
@@ -80,6 +101,7 @@ class NodeDft:
         self.lo = tuple(lo)
         self.counts = tuple((h - l) // self.stride + 1 for l, h in zip(lo, hi))
         self.acc = np.zeros(self.counts + (self.frequencies_hz.size, 6), np.complex128)
+        self.weights = tuple(node_weights(d, idx) for d, idx in zip(sim.grid.spacing, self.node_indices()))
         self._dt = sim.dt
         self._omega = 2.0 * np.pi * self.frequencies_hz
 
@@ -95,7 +117,7 @@ class NodeDft:
         te, th = n * self._dt, (n - 0.5) * self._dt
         f = sim.fields
         K.accumulate(f["Ex"], f["Ey"], f["Ez"], f["Hx"], f["Hy"], f["Hz"], self.lo[0], self.lo[1],
-                     self.lo[2], self.stride, np.exp(1j * self._omega * te),
+                     self.lo[2], self.stride, *self.weights, np.exp(1j * self._omega * te),
                      np.exp(1j * self._omega * th), self.acc)
         self._te.append(te)
         self._th.append(th)

@@ -23,6 +23,7 @@ import numpy as np
 import pytest
 from scipy.constants import c as C0, epsilon_0 as EPS0, mu_0 as MU0
 
+from _graded import graded_nodes, mirrored
 from ringprint.analysis import field_plots, touch
 from ringprint.analysis.fieldset import FieldSet, ModeField, TouchMap
 from ringprint.errors import RingprintError
@@ -73,9 +74,20 @@ def touch_map(fs: FieldSet, mode: ModeField) -> TouchMap:
     return TouchMap(points, normals, shift, mode.q * (1 + shift / 10))
 
 
-def cavity_fieldset(n_modes: int = 2) -> FieldSet:
-    """The synthetic FieldSet described in the module docstring (modes 1..n_modes = TE101, TE102, ...)."""
-    x, y, z = (np.arange(0.0, s + H / 2, H) for s in (A, B, D))
+def graded_axis(length: float) -> np.ndarray:
+    """Nodes on [0, length], symmetric about the middle (a node): steps of about H/2
+    within length/5 of it, growing by 1.25 per step up to about H."""
+    half = length / 2
+    return mirrored(graded_nodes(H / 2, H, 1.25, int(np.ceil(length / 5 / (H / 2))), until=half, fit=True), half)
+
+
+def cavity_fieldset(n_modes: int = 2, graded: bool = False) -> FieldSet:
+    """The synthetic FieldSet described in the module docstring (modes 1..n_modes = TE101,
+    TE102, ...), on a uniform lattice of step H or on :func:`graded_axis` lattices."""
+    if graded:
+        x, y, z = (graded_axis(s) for s in (A, B, D))
+    else:
+        x, y, z = (np.arange(0.0, s + H / 2, H) for s in (A, B, D))
     shape = (x.size, y.size, z.size)
     ring = box_mask(x, y, z, (2, 3, 2), (28, 7, 18)) & ~box_mask(x, y, z, (4, 3, 4), (26, 7, 16))
     parts = {"bezel ring": ring,
@@ -87,7 +99,7 @@ def cavity_fieldset(n_modes: int = 2) -> FieldSet:
     for l, q in zip(range(1, n_modes + 1), (800.0, 650.0, 500.0, 420.0, 380.0, 300.0, 250.0)):
         e, h, f = te10l(x, y, z, l)
         mode = ModeField(l, f, q, e, h)
-        scale = 1.0 / np.sqrt(fs.energy_density(mode).sum() * fs.cell_volume)
+        scale = 1.0 / np.sqrt(fs.integrate(fs.energy_density(mode)))
         mode.e, mode.h = e * scale, h * scale
         fs.modes.append(mode)
         fs.touch[l] = touch_map(fs, mode)
@@ -201,3 +213,34 @@ def test_region_of_interest_is_the_parts_box_grown(fs):
     only.parts = {}
     assert field_plots.region_of_interest(only) == (slice(None),) * 3
     assert field_plots.flat_axis(fs) == 1   # b = 10 mm is the shortest side
+
+
+def test_graded_lattice_fixture_is_normalized_with_node_volumes():
+    """On the graded lattice the 1 J normalization weights every node by its volume: the
+    node-volume sum of the stored energy density of TE101 is 1 J (to rounding), and the
+    lattice has no single spacing."""
+    g = cavity_fieldset(1, graded=True)
+    assert not g.uniform and g.max_step / g.min_step > 1.8
+    assert float(np.sum(g.energy_density(g.mode(1)) * g.node_volumes())) == pytest.approx(1.0, rel=1e-12)
+    with pytest.raises(RingprintError, match="no single spacing"):
+        g.spacing
+    values, _ = field_plots.field_quantity(g, 1, "e")
+    i, _, k = field_plots.peak_node(values)
+    assert (g.x[i], g.z[k]) == pytest.approx((A / 2, D / 2), abs=1e-12)   # Pozar eq. 6.42a
+
+
+def test_field_picture_on_a_graded_lattice_draws_at_the_node_coordinates():
+    """A graded lattice is drawn as a mesh on its nodes (pcolormesh), not as an image
+    that would spread the nodes evenly; the picture is still a readable PNG."""
+    from matplotlib.figure import Figure
+
+    g = cavity_fieldset(1, graded=True)
+    fig = Figure()
+    ax = fig.add_subplot()
+    mesh = field_plots._slice_image(ax, g.x, g.z, np.ones((g.z.size, g.x.size)), g.uniform)
+    assert not hasattr(mesh, "get_extent")        # a mesh, not an AxesImage
+    np.testing.assert_allclose(np.unique(mesh.get_coordinates()[..., 0]), g.x)
+    png = field_plots.field_picture_png(g, 1, "energy")
+    img = decode(png)
+    assert img.shape[:2] == (460, 1000)
+    not_blank(img)

@@ -38,19 +38,26 @@ def test_scene_has_parts_field_probe_legend_and_title(scene, fs):
     assert len(meshes) == 6
 
 
+def _slice_at_peak(plotter):
+    """The scene's one slice normal to y, checked to pass through the TE101 |E| peak at
+    x = a/2, z = d/2 (Pozar eq. 6.42a)."""
+    slices = [a.mapper.dataset for a in plotter.renderer.actors.values()
+              if isinstance(a, vtk.vtkActor) and a.mapper.dataset.n_cells
+              and np.ptp(a.mapper.dataset.points[:, 1]) == 0 and a.mapper.dataset.n_points > 400]
+    assert len(slices) == 1
+    plane = slices[0]
+    peak = plane.points[np.argmax(plane["field"])]
+    assert peak[[0, 2]] == pytest.approx([15e-3, 10e-3], abs=1e-9)
+    return plane
+
+
 def test_slice_goes_through_the_field_peak(fs):
     """The slice is normal to the shortest side (b, along y) and passes through the
     |E| peak of TE101, x = a/2, z = d/2 (Pozar eq. 6.42a: Ey ~ sin(pi x/a) sin(pi z/d))."""
     assert field_plots.flat_axis(fs) == 1
     plotter = field_views.build_scene(fs, 1, "e", off_screen=True, window_size=(200, 150))
     try:
-        slices = [a.mapper.dataset for a in plotter.renderer.actors.values()
-                  if isinstance(a, vtk.vtkActor) and a.mapper.dataset.n_cells
-                  and np.ptp(a.mapper.dataset.points[:, 1]) == 0 and a.mapper.dataset.n_points > 400]
-        assert len(slices) == 1
-        plane = slices[0]
-        peak = plane.points[np.argmax(plane["field"])]
-        assert peak[[0, 2]] == pytest.approx([15e-3, 10e-3], abs=1e-9)
+        plane = _slice_at_peak(plotter)
         assert plane["field"].max() == pytest.approx(np.sqrt(np.sum(np.abs(fs.mode(1).e) ** 2, axis=0)).max())
     finally:
         plotter.close()
@@ -95,3 +102,19 @@ def test_show_refuses_without_a_display(fs, monkeypatch):
         field_views.show(fs, 1)
     monkeypatch.setenv("WAYLAND_DISPLAY", "wayland-0")
     assert field_views.display_available()
+
+
+def test_graded_scene_uses_the_node_coordinates():
+    """On a graded lattice the scene is a rectilinear grid over the nodes; the slice
+    still passes through the |E| peak of TE101 at x = a/2, z = d/2 (Pozar eq. 6.42a),
+    and its points are the lattice's own x and z."""
+    g = cavity_fieldset(1, graded=True)
+    plotter = field_views.build_scene(g, 1, "e", off_screen=True, window_size=(200, 150))
+    try:
+        plane = _slice_at_peak(plotter)
+        xs = np.unique(np.round(plane.points[:, 0], 12))
+        assert np.all(np.min(np.abs(xs[:, None] - g.x[None, :]), axis=1) < 1e-9)
+    finally:
+        plotter.close()
+    png = field_views.render_png(g, 1, None, "energy", size=(320, 240))
+    not_blank(decode(png), min_std=0.05, min_colours=100)

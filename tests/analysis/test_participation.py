@@ -7,6 +7,7 @@ from types import SimpleNamespace
 import numpy as np
 import pytest
 
+from _graded import graded_nodes
 from ringprint.analysis import lattice as lt
 from ringprint.analysis.fieldset import FieldSet, ModeField
 from ringprint.analysis.participation import RINGS_IN_MIN, Regions, participation
@@ -112,3 +113,46 @@ def test_budget_too_small_for_any_field_is_one_line():
         lt.plan_lattice(_model(), n_modes=3, budget_bytes=1000)
     msg = str(err.value)
     assert "\n" not in msg and "output.field_memory" in msg and "--no-fields" in msg
+
+
+def test_shares_on_a_graded_lattice_are_volume_fractions():
+    """A uniform field over a graded lattice: each part's share is its node volume over
+    the whole lattice's (by construction, computed here from the coordinates), not its
+    node count; a 2:1 spread of cell sizes would make a count wrong by tens of percent."""
+    ax = graded_nodes(H, 2 * H, 1.25, 10, 8)
+    n = ax.size
+    shape = (n, n, n)
+    fine = np.zeros(shape, bool)
+    fine[2:6, 2:6, 2:6] = True                    # in the fine cells
+    coarse = np.zeros(shape, bool)
+    coarse[-6:-2, -6:-2, -6:-2] = True            # in the coarse cells
+    fs = FieldSet(ax, ax, ax, eps_r=np.ones(shape, np.float32), sigma=np.zeros(shape, np.float32),
+                  pec=np.zeros(shape, bool), parts={"fine": fine, "coarse": coarse})
+    assert not fs.uniform
+    e = np.zeros((3,) + shape, np.complex64)
+    e[0] = 1.0
+    p = participation(fs, ModeField(1, 1e9, 50.0, e, np.zeros_like(e)))
+    w = np.empty(n)
+    w[1:-1] = 0.5 * (ax[2:] - ax[:-2])
+    w[0], w[-1] = ax[1] - ax[0], ax[-1] - ax[-2]
+    vol = w[:, None, None] * w[None, :, None] * w[None, None, :]
+    for name, mask in (("fine", fine), ("coarse", coarse)):
+        assert p["detail"][name]["electric_inside"] == pytest.approx(vol[mask].sum() / vol.sum(), rel=1e-9)
+    assert p["detail"]["coarse"]["electric_inside"] > 6 * p["detail"]["fine"]["electric_inside"]
+
+
+def test_graded_shell_is_counted_in_grid_cells():
+    """The shell is SHELL_CELLS (= 2) lattice steps around the part in index space, on the
+    fine and on the coarse side alike, whatever the steps measure in metres."""
+    ax = graded_nodes(H, 2 * H, 1.25, 10, 8)
+    n = ax.size
+    shape = (n, n, n)
+    plate = np.zeros(shape, bool)
+    plate[5:n - 5, 5:n - 5, 12:14] = True          # straddles fine, transition and coarse along x, y
+    fs = FieldSet(ax, ax, ax, eps_r=np.ones(shape, np.float32), sigma=np.zeros(shape, np.float32),
+                  pec=plate.copy(), parts={"plate": plate}, conductors=("plate",))
+    r = Regions(fs)
+    above = r.shell["plate"][n // 2, n // 2, :]
+    assert list(np.flatnonzero(above)) == [10, 11, 14, 15]
+    beside = r.shell["plate"][:, n // 2, 12]
+    assert list(np.flatnonzero(beside)) == [3, 4, n - 5, n - 4]

@@ -14,7 +14,8 @@ larger puck, whose higher modes lie near there: a real hybrid, not a fault.) Che
 - ``fields.h5`` round-trips: the field read back equals the file's own data, each
   mode is normalized to 1 J (Harrington 1961: time-averaged stored energy), and
   every mode of modes.json has its field;
-- one ``mode_NN.vti`` per mode, readable by VTK (pyvista), with the named arrays.
+- one ``mode_NN.vti`` (uniform lattice) or ``mode_NN.vtr`` (graded) per mode, readable
+  by VTK (pyvista), with the named arrays.
 """
 
 from __future__ import annotations
@@ -90,20 +91,21 @@ def test_fields_file_round_trips_and_is_normalized(result):
     assert list(fs.parts) == ["big puck", "small puck"]
     on_disk = json.loads((out / "modes.json").read_text())
     assert on_disk["results_layout"] == 2 and on_disk["fields"]["file"] == "fields.h5"
-    dv = fs.spacing ** 3
+    dv = fs.node_volumes()
     for m in fs.modes:
-        w = 0.25 * dv * (EPS0 * np.sum(fs.eps_r * np.sum(abs(m.e) ** 2, axis=0))
-                         + MU0 * np.sum(abs(m.h) ** 2))
+        w = 0.25 * (EPS0 * np.sum(dv * fs.eps_r * np.sum(abs(m.e) ** 2, axis=0))
+                    + MU0 * np.sum(dv * np.sum(abs(m.h) ** 2, axis=0)))
         assert w == pytest.approx(1.0, rel=1e-5)
         assert np.isfinite(m.e).all() and np.isfinite(m.h).all()
 
 
-def test_one_vti_per_mode(result):
+def test_one_vtk_file_per_mode(result):
     import pyvista as pv
 
     summary, out = result
+    suffix = ".vti" if summary["fields"]["uniform"] else ".vtr"
     for m in summary["modes"]:
-        img = pv.read(out / f"mode_{m['index']:02d}.vti")
+        img = pv.read(out / f"mode_{m['index']:02d}{suffix}")
         for name in ("E_magnitude", "H_magnitude", "energy_density", "E_real", "E_imag"):
             assert name in img.point_data
         assert np.max(img.point_data["energy_density"]) > 0
