@@ -5,7 +5,7 @@ from __future__ import annotations
 import numpy as np
 
 from ringprint.errors import RingprintError
-from ringprint.fdtd.conformal import MIN_STEP_FACTOR, ConformalFaces, conformal_faces
+from ringprint.fdtd.conformal import MIN_FREE_LENGTH, MIN_STEP_FACTOR, ConformalFaces, conformal_faces
 from ringprint.fdtd.grid import E_COMPONENTS, EPS0, H_COMPONENTS, Grid
 
 #: Relative resolution used to quantize eps_r and sigma when the unique pairs
@@ -36,7 +36,8 @@ class Media:
         Locally conformal metal (:mod:`ringprint.fdtd.conformal`, Dey & Mittra 1997):
         the fraction of every E edge (shaped like Ex, Ey, Ez) and of every H face
         (shaped like Hx, Hy, Hz) that lies outside the metal. Give both or neither.
-        PEC edges count as wholly inside whatever ``free_length`` says.
+        PEC edges count as wholly inside whatever ``free_length`` says, and so do edges
+        whose free fraction is below ``MIN_FREE_LENGTH`` (they become PEC).
     min_step_factor : float
         Smallest time-step factor the cut faces may force (see
         :mod:`ringprint.fdtd.conformal`); faces needing less are closed as metal.
@@ -61,7 +62,7 @@ class Media:
             masks = [None, None, None]
         else:
             masks = _per_component(pec, shapes, "pec", dtype=bool)
-        self.conformal = _conformal(grid, free_length, free_area, masks, min_step_factor)
+        self.conformal, masks = _conformal(grid, free_length, free_area, masks, min_step_factor)
         for c, e, s in zip(E_COMPONENTS, eps, sig):
             _check_values(c, e, s)
         self.quantized = False
@@ -146,8 +147,10 @@ class Media:
 
 
 def _conformal(grid, free_length, free_area, masks, min_step_factor):
+    """The cut faces, and the PEC masks with the edges too short in free length added
+    (``MIN_FREE_LENGTH``)."""
     if free_length is None and free_area is None:
-        return None
+        return None, masks
     if free_length is None or free_area is None:
         raise RingprintError("media: conformal metal needs both free_length (per E edge) and "
                              "free_area (per H face); give both or neither")
@@ -160,11 +163,15 @@ def _conformal(grid, free_length, free_area, masks, min_step_factor):
             if np.any(~np.isfinite(v)) or np.any(v < 0) or np.any(v > 1):
                 raise RingprintError(f"media {name}: fractions must lie in [0, 1]")
     lengths = [np.broadcast_to(v, sh).astype(np.float32) for v, sh in zip(lengths, e_shapes)]
+    out = []
     for v, m in zip(lengths, masks):
+        short = v < MIN_FREE_LENGTH
         if m is not None:
-            v[np.broadcast_to(m, v.shape)] = 0.0
+            short |= np.broadcast_to(m, v.shape)
+        v[short] = 0.0
+        out.append(short)
     areas = [np.broadcast_to(v, sh) for v, sh in zip(areas, h_shapes)]
-    return conformal_faces(grid, lengths, areas, min_step_factor)
+    return conformal_faces(grid, lengths, areas, min_step_factor), out
 
 
 def _per_component(value, shapes, name, dtype=float):

@@ -43,6 +43,38 @@ def cavity(radius, length, cells_per_radius, conformal=True, offset=(0.0, 0.0)):
                             free_length=free_length, free_area=free_area)
 
 
+def sphere_cavity(radius, cells_per_radius, conformal=True):
+    """``(grid, media)`` of a closed spherical cavity cut out of metal, centred off the
+    grid's nodes (offsets 0.23, 0.34, 0.16 cells) so that every cut is oblique."""
+    h = radius / cells_per_radius
+    n = int(cells_per_radius) + 2
+    ax = h * (np.arange(-n, n + 1) + 0.23)
+    grid = fdtd.Grid(ax, ax + 0.11 * h, ax - 0.07 * h)
+    ball = primitives.sphere(radius, n=192).with_(kind="solid")
+    lines, faces = conformal_fractions(ball, *grid.nodes)
+    free_length, free_area = _full(grid, lines, E_COMPS), _full(grid, faces, H_COMPS)
+    if not conformal:
+        return grid, fdtd.Media(grid, pec=tuple(v < 0.5 for v in free_length))
+    return grid, fdtd.Media(grid, pec=tuple(v <= 1e-6 for v in free_length),
+                            free_length=free_length, free_area=free_area)
+
+
+def ringdown(grid, media, source_at, pickup_at, f_ref, steps):
+    """``[(frequency, amplitude)]`` of the poles within 15 % of ``f_ref`` of an Ez
+    dipole's ring-down seen by Ez and Ex pickups, sorted by frequency."""
+    from ringprint.analysis import harmonic_inversion
+    sim = fdtd.Simulation(grid, media, boundaries="pec", dtype=np.float64)
+    sim.add_source(fdtd.DipoleSource(source_at, "Ez", fdtd.GaussianPulse(0.7 * f_ref, 1.3 * f_ref)))
+    sim.add_pickup(fdtd.FieldPickup("Ez", pickup_at), "p")
+    sim.add_pickup(fdtd.FieldPickup("Ex", pickup_at), "q")
+    sim.run(steps)
+    rec = sim.records()
+    start = int(np.searchsorted(rec["time"], sim.source_end_time))
+    modes = harmonic_inversion(np.stack([rec["p"][start:], rec["q"][start:]]), sim.dt,
+                               0.85 * f_ref, 1.15 * f_ref)
+    return sorted((float(m.frequency_hz), float(np.abs(m.amplitude).max())) for m in modes)
+
+
 def tm010_frequency(grid, media, radius, f_ref, steps=5000):
     """The ring-down frequency nearest ``f_ref`` of an Ez dipole inside the cavity."""
     from ringprint.analysis import harmonic_inversion
