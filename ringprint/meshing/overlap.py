@@ -1,9 +1,11 @@
 """Overlapping parts: which part owns which share of an edge."""
 
+import dataclasses
+
 import numpy as np
 
 from ringprint.errors import RingprintError
-from ringprint.meshing.voxelize import COMPONENTS, EdgeBox, PartFill
+from ringprint.meshing.voxelize import COMPONENTS, EdgeBox
 
 
 def resolve_overlaps(fills, shapes, priority=None):
@@ -15,7 +17,9 @@ def resolve_overlaps(fills, shapes, priority=None):
     before it took. This is exact when the parts do not overlap (nothing is clipped)
     and when an overlapping part lies wholly inside the winner along the segment,
     the usual case (a screw in a frame, a battery in a housing). Surface-cut masks of
-    a winner clear nothing: a conductor sheet stays where it is.
+    a winner clear nothing: a conductor sheet stays where it is; nor do the exact
+    edge-line and face fractions of conformal metal (a conductor keeps its whole
+    shape where a higher-priority dielectric overlaps it).
 
     Parameters
     ----------
@@ -54,5 +58,5 @@ def resolve_overlaps(fills, shapes, priority=None):
             new[i][comp] = EdgeBox(box.offset, kept)
     out = []
     for i, f in enumerate(fills):
-        out.append(f if i not in new else PartFill(f.name, f.kind, f.subrays, new[i], f.cuts))
+        out.append(f if i not in new else dataclasses.replace(f, fractions=new[i]))
     return out
