@@ -132,7 +132,7 @@ def annotate(modes: list, model, dt: float, coarse=()) -> dict:
                  + [{"cells_per_wavelength": float(r.cells_per_wavelength), "cell_m": float(r.cell_m),
                      "modes_found": int(r.frequency_hz.size), "steps": int(r.steps)} for r in coarse],
         "ratio": float(ratio), "stated_order": order,
-        "order_reason": "1: the case holds metal, staircased onto the grid" if order == ORDER_STAIRCASE
+        "order_reason": "1: the case holds metal staircased onto the grid (a sheet or a thin part)" if order == ORDER_STAIRCASE
         else "2: dielectric interfaces averaged (Farjadpour et al. 2006)",
         "floor": STAIRCASE_FLOOR if staircase else None,
         "safety_factor": SAFETY_TWO_GRIDS if grids == 2 else
