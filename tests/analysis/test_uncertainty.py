@@ -322,3 +322,18 @@ def test_staircased_metal_keeps_at_least_the_stated_bound():
     assert m["q_uncertainty"] == stated[0]["q_uncertainty"]
     # the GCI alone (3 x 0.2 MHz / 0.3 = 2 MHz) is far below the stated bound here
     assert 3 * abs(f1 - f2) / 0.3 < 0.5 * m["frequency_uncertainty_hz"]
+
+
+def test_conformal_metal_is_second_order_and_gets_the_conformal_geometry_term():
+    """Conformal metal converges at second order (tests/validation/test_conformal_cavity.py:
+    observed order 2.6 on the cylindrical cavity), staircased metal at first."""
+    diel = _scale("puck", False, 5.0, 12, eps_r=36.0)
+    staircase = _scale("strip", True, 20.0, 16)
+    conformal = un.PartScale("can", True, 1.0, 20e-3, 16, staircase=False)
+    assert un.method_order([diel, conformal]) == un.ORDER_SMOOTH
+    assert un.method_order([diel, conformal, staircase]) == un.ORDER_STAIRCASE
+    f, q = np.array([3.0e9]), np.array([30.0])
+    args = (np.zeros(1), 1e-3, 0.5, 1.0)
+    _, _, rel_s, qs = un.stated_bound(f, q, args[0], [staircase], *args[1:])
+    _, _, rel_c, qc = un.stated_bound(f, q, args[0], [conformal], *args[1:])
+    assert rel_c[0] < rel_s[0] and qc[0] < 0.2 * qs[0]
