@@ -19,7 +19,7 @@ from ringprint import fdtd
 from ringprint.analysis.inversion import harmonic_inversion
 from ringprint.analysis.mode_fields import normalize, sample_every
 from ringprint.analysis.separation import separate
-from ringprint.fdtd import EPS0, MU0
+from ringprint.fdtd import C0, EPS0, MU0
 
 A, B, D = 0.020, 0.010, 0.030
 CELL = 0.5e-3
@@ -61,7 +61,7 @@ def test_te101_pattern_matches_pozar(cavity):
     grid, dft, found = cavity
     f = np.array([r.frequency_hz for r in found])
     omega = 2 * np.pi * f - 1j * np.array([r.decay_rate for r in found])
-    f101 = 3e8 / 2 * np.hypot(1 / A, 1 / D)
+    f101 = C0 / 2 * np.hypot(1 / A, 1 / D)
     k = int(np.argmin(abs(f - f101)))
     assert abs(f[k] / f101 - 1) < 5e-3  # Pozar closed form; grid dispersion below 0.5 %
     sums_e, sums_h = dft.sums()
