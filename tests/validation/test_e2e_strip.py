@@ -32,7 +32,7 @@ Measured: 2.0896 GHz, +0.98 % from the drawn strip's pole, -2.9 % from the grid
 strip's (2.1530 GHz); Q 3.8 against 4.05 and 4.17. A bare solver run (no case, no
 meshing) of a straight wire of 24 PEC edges (60 mm) tells the same: against the pole
 of a wire of the staircase wire's equivalent radius 0.135 h (from memory) it rings
-4.7 % low with 2.5 mm cells and 2.6 % low with 1.25 mm cells (earlier runs, against
+4.3 % low with 2.5 mm cells and 2.6 % low with 1.25 mm cells (earlier runs, against
 the pole computed now): an error falling like the cell, the wire behaving as if about
 0.6 cells longer at each end.
 """
