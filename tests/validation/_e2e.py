@@ -12,6 +12,7 @@ from pathlib import Path
 
 import meshio
 import numpy as np
+from scipy.optimize import brentq
 
 from ringprint.analysis.modes import CHU_Q_MIN
 from ringprint.analysis.pipeline import run_case
@@ -77,6 +78,22 @@ def nearest_mode(summary, f_ref: float) -> dict:
 def relative_errors(mode, f_ref: float, q_ref: float) -> tuple[float, float]:
     """``(frequency error, Q error)`` of a mode against a reference, as signed fractions."""
     return mode["frequency_hz"] / f_ref - 1.0, mode["q"] / q_ref - 1.0
+
+
+def observed_order(cells, values) -> float:
+    """Observed order of convergence from three grids (Richardson; Roache, P. J.,
+    *Verification and Validation in Computational Science and Engineering*, Hermosa,
+    1998, ch. 5): the ``p`` with ``(h1^p - h2^p) / (h2^p - h3^p) = (v1 - v2) / (v2 - v3)``,
+    ``h = 1 / cells``, for values that converge monotonically (``nan`` otherwise, or when
+    ``p`` falls outside 0.1..10). ``cells`` must increase (coarse to fine grid).
+    """
+    h = 1.0 / np.asarray(cells, float)
+    v = np.asarray(values, float)
+    ratio = (v[0] - v[1]) / (v[1] - v[2])
+    g = lambda p: (h[0] ** p - h[1] ** p) / (h[1] ** p - h[2] ** p) - ratio  # noqa: E731
+    if not np.all(np.diff(h) < 0) or not ratio > 0 or g(0.1) * g(10.0) > 0:
+        return float("nan")
+    return float(brentq(g, 0.1, 10.0, xtol=1e-10))
 
 
 def chu_violations(summary) -> list:

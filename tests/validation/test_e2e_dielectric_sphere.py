@@ -35,11 +35,40 @@ cells_per_wavelength  cells/diam   f error    Q error
 the weight the model now uses, and the figures behind it, are in
 :func:`ringprint.analysis.model._dielectric_average`.)
 
-The electric dipole (a_1 pole, k0 a = 0.72179 - 0.00949j) checks the other
-polarization, whose field crosses the surface: frequency -0.49 % at cells_per_wavelength
-10 over 1.2-1.55 GHz. Its Q comes out about 20 % low on this grid and padding and is
-not asserted: the electric dipole's near field reaches further out than the magnetic
-one's, and one radius of padding is tight for it (not investigated further).
+Convergence (checked): the Q error against the pole falls at least like the cell (measured
+ratio 0.29 from 12 to 19.2 cells across, order 2.6), and the observed order of the
+frequency from the three grids (Richardson; Roache, P. J., *Verification and
+Validation in Computational Science and Engineering*, 1998, ch. 5) is at least 1
+(measured 3.6). Expected order: 1 for the diagonal-only interface average on an
+oblique surface (Farjadpour et al. 2006), up to 2 for the Yee scheme itself (Taflove
+& Hagness 2005, ch. 4).
+
+The electric dipole (a_1 pole, k0 a = 0.72179 - 0.00949j, 1.3776 GHz, Q = 38.03)
+checks the other polarization, whose field crosses the surface, over 1.2-1.55 GHz (with
+the b_2 pole, k0 a = 0.74104 - 0.00079j, split in two by the cubic grid). Its Q comes
+out low, and the cause was looked for with targeted runs (cells per wavelength 10 at
+1.55 GHz, 15.5 cells across, unless stated; Q error against the Mie pole):
+
+=========================================  ==========
+run                                        Q error
+=========================================  ==========
+padding 25 mm (one radius), q_max 25       -20.3 %
+padding 50 mm                              -20.3 %
+q_max 80 (record 3.2 times longer)         -20.2 %
+interface weight n_a^2 instead of n_a^4    -21.2 %
+plain volume average (weight 0)            -22.9 %
+cells per wavelength 13 (20.2 across)      -17.6 %
+cells per wavelength 16 (24.8 across)      -14.4 %
+=========================================  ==========
+
+The reference is sound: the a_1 root zeroes the Mie denominator evaluated independently
+with mpmath (test_references.py), and the sphere is lossless, so no loss frequency
+enters. So it is neither the padding, nor the record, nor the interface weight: it is a grid
+error of the surface that falls with the cell (frequency errors -0.49 %, -0.26 %,
+-0.15 % on the same three grids). A mode whose field crosses a surface of eps_r 36
+radiates through the small field just outside it, so its Q is far more sensitive to
+the surface's representation than its frequency. The check runs the two finer grids
+and extrapolates their Q to zero cell size at first order: -0.8 % from the Mie pole.
 """
 
 from __future__ import annotations
@@ -68,19 +97,23 @@ def _reference():
     return ref.pole_frequency(pole), ref.pole_q(pole)
 
 
-@pytest.fixture(scope="module")
-def runs(tmp_path_factory):
-    """One run per grid: ``{cells_per_wavelength: summary}``."""
-    folder = tmp_path_factory.mktemp("dielectric_sphere")
+def _run_grids(folder, tag, grids, spectrum):
+    """The sphere run once per grid: ``{cells_per_wavelength: summary}``."""
     _e2e.write_stl(folder / "ball.stl", primitives.sphere(RADIUS_MM, n=128))
     out = {}
-    for n in GRIDS:
-        case = _e2e.write_case(folder, f"sphere_n{n}", [("ball", "ball.stl", f"{{ eps_r = {EPS_R} }}")],
-                               {"f_min": "0.8 GHz", "f_max": "1.2 GHz"},
-                               grid={"cells_per_wavelength": n, "padding": RADIUS_MM},
+    for n in grids:
+        case = _e2e.write_case(folder, f"sphere{tag}_n{n}", [("ball", "ball.stl", f"{{ eps_r = {EPS_R} }}")],
+                               spectrum, grid={"cells_per_wavelength": n, "padding": RADIUS_MM},
                                analysis={"q_max": 25})
-        out[n] = _e2e.run(case, out_name=f"out_n{n}")
+        out[n] = _e2e.run(case, out_name=f"out{tag}_n{n}")
     return out
+
+
+@pytest.fixture(scope="module")
+def runs(tmp_path_factory):
+    """One run per grid over 0.8-1.2 GHz (the b_1 pole alone)."""
+    return _run_grids(tmp_path_factory.mktemp("dielectric_sphere"), "", GRIDS,
+                      {"f_min": "0.8 GHz", "f_max": "1.2 GHz"})
 
 
 def _errors(summary):
@@ -95,20 +128,28 @@ def test_mesh_volume_error_is_negligible():
     assert abs(s.volume / exact - 1.0) < 2e-3
 
 
-def test_magnetic_dipole_q_within_5_percent_and_improving(runs):
-    """Q of the b_1 pole (Bohren & Huffman 1983) within 5 % on the finest grid, and
-    closer there than on the coarsest."""
+def test_magnetic_dipole_q_within_5_percent_and_converging_at_first_order(runs):
+    """Q of the b_1 pole (Bohren & Huffman 1983) within 5 % on the finest grid, and its
+    error against the pole falling at least like the cell (first order: the expected
+    order is 1 for the diagonal-only interface average on an oblique surface, Farjadpour
+    et al. 2006, up to 2 for the Yee scheme itself, Taflove & Hagness 2005 ch. 4):
+    ``|e(16)| <= |e(10)| (10/16)``. Measured ratio 0.29 (order 2.6)."""
     errs = {n: _errors(runs[n]) for n in GRIDS}
     q_fine, q_coarse = abs(errs[GRIDS[-1]][1]), abs(errs[GRIDS[0]][1])
     assert q_fine < Q_TOL, errs
-    assert q_fine < q_coarse, errs
+    assert q_fine <= q_coarse * GRIDS[0] / GRIDS[-1], errs
 
 
-def test_magnetic_dipole_frequency_error_falls_with_the_grid(runs):
-    """The frequency error against the b_1 pole (Bohren & Huffman 1983) is smaller on the
-    finest grid than on the coarsest."""
-    errs = {n: _errors(runs[n]) for n in GRIDS}
-    assert abs(errs[GRIDS[-1]][0]) < abs(errs[GRIDS[0]][0]), errs
+def test_magnetic_dipole_frequency_converges_at_first_order_or_better(runs):
+    """Observed order of convergence of the b_1 frequency (Bohren & Huffman 1983) from the
+    three grids (Richardson, as in Roache 1998 ch. 5; :func:`_e2e.observed_order`) is at
+    least 1, the expected order (see the Q check above). Measured 3.6: on these grids
+    the Yee dispersion (reads low) and the interface average (reads high) partly cancel,
+    so the differences shrink faster than either error alone; a first-order regression
+    would bring it down to about 1."""
+    freqs = [_e2e.nearest_mode(runs[n], _reference()[0])["frequency_hz"] for n in GRIDS]
+    order = _e2e.observed_order(GRIDS, freqs)
+    assert order >= 1.0, (order, freqs)
 
 
 def test_magnetic_dipole_frequency_within_1_percent(runs):
@@ -125,21 +166,41 @@ def test_every_mode_respects_the_chu_bound(runs):
         assert not _e2e.chu_violations(summary), f"grid {n}: " + _e2e.describe(summary)
 
 
-@pytest.fixture(scope="module")
-def electric_run(tmp_path_factory):
-    folder = tmp_path_factory.mktemp("dielectric_sphere_a1")
-    _e2e.write_stl(folder / "ball.stl", primitives.sphere(RADIUS_MM, n=128))
-    case = _e2e.write_case(folder, "sphere_a1", [("ball", "ball.stl", f"{{ eps_r = {EPS_R} }}")],
-                           {"f_min": "1.2 GHz", "f_max": "1.55 GHz"},
-                           grid={"cells_per_wavelength": GRIDS[0], "padding": RADIUS_MM},
-                           analysis={"q_max": 25})
-    return _e2e.run(case, out_name="out_a1")
+ELECTRIC_GRIDS = (13, 16)           # cells per wavelength in the sphere at 1.55 GHz
 
 
-def test_electric_dipole_frequency_within_1_percent(electric_run):
-    """Frequency of the a_1 pole (Bohren & Huffman 1983, eqs. 4.56-4.57) within 1 % on the
-    coarse grid: the field crossing the surface checks the harmonic part of the edge rule."""
+def _electric_reference():
     pole = ref.dielectric_sphere_pole(EPS_R, RADIUS_MM * 1e-3, n=1, kind="TM")
-    f_ref = ref.pole_frequency(pole)
-    mode = _e2e.nearest_mode(electric_run, f_ref)
-    assert abs(mode["frequency_hz"] / f_ref - 1.0) < F_TOL, _e2e.describe(electric_run)
+    return ref.pole_frequency(pole), ref.pole_q(pole)
+
+
+@pytest.fixture(scope="module")
+def electric_runs(tmp_path_factory):
+    """One run per grid over 1.2-1.55 GHz (the a_1 pole and the split b_2 pair)."""
+    return _run_grids(tmp_path_factory.mktemp("dielectric_sphere_a1"), "_a1", ELECTRIC_GRIDS,
+                      {"f_min": "1.2 GHz", "f_max": "1.55 GHz"})
+
+
+def test_electric_dipole_frequency_within_1_percent(electric_runs):
+    """Frequency of the a_1 pole (Bohren & Huffman 1983, eqs. 4.56-4.57) within 1 % on both
+    grids: the field crossing the surface checks the harmonic part of the edge rule."""
+    f_ref, _ = _electric_reference()
+    for n, summary in electric_runs.items():
+        mode = _e2e.nearest_mode(summary, f_ref)
+        assert abs(mode["frequency_hz"] / f_ref - 1.0) < F_TOL, (n, _e2e.describe(summary))
+
+
+def test_electric_dipole_q_extrapolates_to_the_mie_pole(electric_runs):
+    """Q of the a_1 pole (Bohren & Huffman 1983): the grid error falls, and the first-order
+    Richardson extrapolation of the two grids (Roache 1998 ch. 5; first order as measured,
+    module docstring) lies within 5 % (the issue's Q tolerance) of the Mie pole's Q.
+
+    ``Q_inf = Q_f + (Q_f - Q_c) h_f / (h_c - h_f)``; measured -0.8 % (raw errors -17.6 %
+    and -14.4 %).
+    """
+    f_ref, q_ref = _electric_reference()
+    coarse, fine = (_e2e.nearest_mode(electric_runs[n], f_ref)["q"] for n in ELECTRIC_GRIDS)
+    assert abs(fine / q_ref - 1.0) < abs(coarse / q_ref - 1.0), (coarse, fine, q_ref)
+    n_c, n_f = ELECTRIC_GRIDS
+    q_inf = fine + (fine - coarse) * (1.0 / n_f) / (1.0 / n_c - 1.0 / n_f)
+    assert abs(q_inf / q_ref - 1.0) < Q_TOL, (coarse, fine, q_inf, q_ref)

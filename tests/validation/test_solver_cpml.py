@@ -75,5 +75,8 @@ def test_cpml_reflection_below_minus_60_db(thin):
         refl_db = 20 * np.log10(err.max() / inc.max()), 20 * np.log10(np.max(err / inc))
         # per-frequency ratio across the band
         assert refl_db[1] < -60.0, (thin, name, refl_db)
-        # and the records are not trivially equal (the layer does reflect a little)
-        assert err.max() > 0
+        # The measurement is real: the truncated domain differs from the reference by
+        # far more than float64 rounding (~-300 dB), so the layer is really there and the
+        # check above is not passed by two identical runs. Measured -75 to -86 dB
+        # (peak over peak); -140 dB leaves room for a much better layer.
+        assert refl_db[0] > -140.0, (thin, name, refl_db)
