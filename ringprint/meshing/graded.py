@@ -43,6 +43,8 @@ import numpy as np
 
 from ringprint.errors import RingprintError
 
+C0 = 299_792_458.0  # speed of light in vacuum, m/s (exact, SI 2019)
+
 #: Largest ratio of neighbouring spacings.
 GRADING = 1.3
 #: A triangle is axis-normal when |n . e_axis| is at least this (0.57 degrees).
@@ -290,3 +292,43 @@ def check_min_feature(min_feature, cell):
     if not (np.isfinite(min_feature) and min_feature > 0):
         raise RingprintError(f"min_feature = {min_feature!r} must be a positive length in metres")
     return float(min(min_feature, cell))
+
+
+def graded_axes(surfaces, names, eps_r, f_max, cells_per_wavelength, padding, boundary_cells,
+                min_feature, lo, hi):
+    """Node vectors of the three axes and the refinements that shaped them.
+
+    Lines: flat faces and bounding boxes of every surface; targets: the dielectric
+    wavelength across each dielectric part, and each feature of
+    :func:`ringprint.meshing.features.find_features` at least ``min_feature`` thick.
+    Returns ``(axes, refinements)``, refinements most restrictive first.
+    """
+    from ringprint.meshing.features import Refinement, find_features
+
+    cell = C0 / (f_max * cells_per_wavelength)
+    lines = []
+    for a in range(3):
+        coords, weights = [], []
+        for s in surfaces:
+            c, w = face_lines(s, a, (cell / 2) ** 2)
+            slo, shi = s.bounds
+            coords += [c, [slo[a], shi[a]]]
+            weights += [w, [np.inf, np.inf]]
+        lines.append(merge_lines(np.concatenate(coords), np.concatenate(weights), min_feature))
+    records = []
+    for s, name, eps in zip(surfaces, names, eps_r):
+        if eps > 1:
+            slo, shi = s.bounds
+            h = cell / math.sqrt(eps)
+            for a in range(3):
+                centre = tuple(float(v) for v in (slo + shi) / 2)
+                records.append(Refinement((name,), "dielectric", "xyz"[a], float(shi[a] - slo[a]), h,
+                                          centre, (float(slo[a]), float(shi[a]))))
+    for a in range(3):
+        records += find_features(surfaces, names, a, lo, hi, cell, min_feature, lines)
+    axes = []
+    for a in range(3):
+        targets = [(r.span[0], r.span[1], r.cell_m) for r in records if r.axis == "xyz"[a] and r.refined]
+        axes.append(plan_axis(lines[a], targets, cell, padding, boundary_cells))
+    records.sort(key=lambda r: (not r.refined, r.cell_m))
+    return axes, tuple(records)
