@@ -5,6 +5,8 @@ part". Coordinates are metres once :func:`transform_surface` has applied the uni
 """
 
 from ringprint.meshing.checks import HOLE_FRACTION, MeshingWarning, prepare_surface
+from ringprint.meshing.features import GAP_CELLS, WALL_CELLS, Refinement, find_features
+from ringprint.meshing.graded import GRADING, plan_axis
 from ringprint.meshing.grid import (Grid, available_memory, cell_size, check_memory, default_padding,
                                     memory_estimate, plan_grid, thickness, warn_thin_parts)
 from ringprint.meshing.overlap import resolve_overlaps
@@ -16,9 +18,10 @@ from ringprint.meshing.voxelize import (EdgeBox, PartFill, dual_nodes, edge_frac
                                         voxelize)
 
 __all__ = [
-    "CAD_EXTENSIONS", "EdgeBox", "Grid", "HOLE_FRACTION", "MESH_EXTENSIONS", "MeshingWarning",
-    "PartFill", "Surface", "UNITS", "available_memory", "load_parts", "cell_size", "check_memory",
-    "default_padding", "dual_nodes", "edge_fractions", "memory_estimate", "plan_grid",
+    "CAD_EXTENSIONS", "EdgeBox", "GAP_CELLS", "GRADING", "Grid", "HOLE_FRACTION", "MESH_EXTENSIONS", "MeshingWarning",
+    "PartFill", "Refinement", "Surface", "UNITS", "WALL_CELLS", "available_memory", "load_parts", "cell_size", "check_memory",
+    "default_padding", "dual_nodes", "edge_fractions", "find_features", "memory_estimate", "plan_axis",
+    "plan_grid",
     "prepare_surface", "read_surfaces", "resolve_overlaps", "rotation_matrix", "signed_volume",
     "surface_cuts", "thickness", "transform_surface", "unit_scale", "voxelize", "warn_thin_parts",
 ]

@@ -242,10 +242,13 @@ def thickness(surface, spacing, max_rays=128):
 def warn_thin_parts(surfaces, cell):
     """Warn (MeshingWarning naming the part) for solids thinner than one cell.
 
-    Returns ``{name: estimated thickness}`` of the parts warned about.
+    ``cell`` is one size for all, or one per surface (on a graded grid,
+    :meth:`Grid.local_cell` of each part's box). Returns ``{name: estimated
+    thickness}`` of the parts warned about.
     """
     thin = {}
-    for s in surfaces:
+    cells = np.broadcast_to(np.asarray(cell, np.float64), (len(surfaces),))
+    for s, cell in zip(surfaces, cells):
         if s.kind == "sheet":
             continue
         t = thickness(s, cell / 2)
@@ -296,10 +299,11 @@ def available_memory():
     return os.sysconf("SC_AVPHYS_PAGES") * os.sysconf("SC_PAGE_SIZE")
 
 
-def check_memory(estimate, available=None, allow=False):
+def check_memory(estimate, available=None, allow=False, graded=False):
     """Refuse (RingprintError with the numbers) a run that needs more than is free.
 
-    ``allow=True`` overrides the refusal (the user knows better, e.g. swap).
+    ``allow=True`` overrides the refusal (the user knows better, e.g. swap);
+    ``graded=True`` adds the graded grid's own remedy (a larger min_feature).
     """
     need = estimate["total"] if isinstance(estimate, dict) else int(estimate)
     have = available_memory() if available is None else int(available)
@@ -307,6 +311,8 @@ def check_memory(estimate, available=None, allow=False):
         parts = ", ".join(f"{k} {v / 2**30:.2f}" for k, v in estimate.items() if k != "total") \
             if isinstance(estimate, dict) else ""
         raise RingprintError(f"the run needs {need / 2**30:.2f} GiB ({parts}) but only "
-                             f"{have / 2**30:.2f} GiB is available: lower cells_per_wavelength or "
+                             f"{have / 2**30:.2f} GiB is available: "
+                             + ("raise [grid] min_feature (thinner walls and gaps stay sub-cell), " if graded else "")
+                             + "lower cells_per_wavelength or "
                              "f_max, shrink the padding, or override the memory check (--ignore-memory-check)")
     return need
