@@ -65,8 +65,9 @@ def ray_lattice(lo, hi, spacing, lines=()):
     return np.unique(np.concatenate([regular, (ln[:-1] + ln[1:]) / 2]))
 
 
-def _intervals(surfaces, names, axis, bq, cq):
-    """Per-ray intervals ``(ray, lo, hi, kind, parts)`` of walls, gaps and slots."""
+def _intervals(surfaces, names, axis, bq, cq, tiny):
+    """Per-ray intervals ``(ray, lo, hi, kind, parts)`` of walls, gaps and slots longer
+    than ``tiny`` (shorter ones are round-off where two parts touch)."""
     rays, at, dw, who = [], [], [], []
     out = []
     for i, s in enumerate(surfaces):
@@ -76,7 +77,7 @@ def _intervals(surfaces, names, axis, bq, cq):
         if solid and a.size:
             cs = np.cumsum(d)
             wind = cs - np.r_[0, cs][rs[:-1]][ray]
-            j = np.nonzero((ray[:-1] == ray[1:]) & (wind[:-1] > 0) & (np.diff(a) > 0))[0]
+            j = np.nonzero((ray[:-1] == ray[1:]) & (wind[:-1] > 0) & (np.diff(a) > tiny))[0]
             out += [(ray[k], a[k], a[k + 1], "wall", (names[i],)) for k in j]
         rays.append(ray)
         at.append(a)
@@ -90,7 +91,7 @@ def _intervals(surfaces, names, axis, bq, cq):
         first = np.r_[0, np.nonzero(np.diff(ray))[0] + 1]
         start = np.repeat(np.r_[0, cs][first], np.diff(np.r_[first, a.size]))
         wind = cs - start
-        j = np.nonzero((ray[:-1] == ray[1:]) & (wind[:-1] <= 0) & (np.diff(a) > 0))[0]
+        j = np.nonzero((ray[:-1] == ray[1:]) & (wind[:-1] <= 0) & (np.diff(a) > tiny))[0]
         for k in j:
             pair = tuple(sorted({names[w[k]], names[w[k + 1]]}))
             out.append((ray[k], a[k], a[k + 1], "slot" if len(pair) == 1 else "gap", pair))
@@ -131,7 +132,8 @@ def find_features(surfaces, names, axis, lo, hi, cell, min_feature, lines=((), (
     bq = ray_lattice(lo[b], hi[b], cell / 2, lines[b])
     cq = ray_lattice(lo[c], hi[c], cell / 2, lines[c])
     need = {"wall": WALL_CELLS, "gap": GAP_CELLS, "slot": GAP_CELLS}
-    cand = [iv for iv in _intervals(surfaces, names, axis, bq, cq)
+    tiny = 1e-9 * float(np.max(np.asarray(hi) - np.asarray(lo)))
+    cand = [iv for iv in _intervals(surfaces, names, axis, bq, cq, tiny)
             if (iv[2] - iv[1]) / need[iv[3]] < cell]
     by_ray = defaultdict(list)
     for r, a0, a1, kind, parts in cand:

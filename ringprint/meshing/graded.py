@@ -157,8 +157,11 @@ def _invert(x, h, cum, values):
     return x[k] + h[k] * step
 
 
-def _at(x, cum, point):
-    return float(np.interp(point, x, cum))
+def _at(x, h, cum, point):
+    """``I`` at one point (exact for ``H`` linear between knots)."""
+    k = int(np.clip(np.searchsorted(x, point, "right") - 1, 0, len(x) - 2))
+    hp = float(np.interp(point, x, h))
+    return float(cum[k] + _cumulative(np.array([x[k], point]), np.array([h[k], hp]))[-1])
 
 
 def _capped(x, h, a, b, cap, keep_ends):
@@ -270,8 +273,8 @@ def plan_axis(lines, targets, cell, padding, boundary_cells):
         nodes.append(np.concatenate([_invert(x, h, cum, values[:-1]), lines[k + 1:k + 2]]))
     core = np.concatenate(nodes)
     unit = 1 + _SLACK  # padding cells: the largest allowed, so far air gets the full cell
-    left = math.ceil((at_lines[0] - _at(x, cum, lines[0] - padding)) / unit - _WHOLE) if padding > 0 else 0
-    right = math.ceil((_at(x, cum, lines[-1] + padding) - at_lines[-1]) / unit - _WHOLE) if padding > 0 else 0
+    left = math.ceil((at_lines[0] - _at(x, h, cum, lines[0] - padding)) / unit - _WHOLE) if padding > 0 else 0
+    right = math.ceil((_at(x, h, cum, lines[-1] + padding) - at_lines[-1]) / unit - _WHOLE) if padding > 0 else 0
     lpad = _invert(x, h, cum, at_lines[0] - unit * np.arange(left, 0, -1.0))
     rpad = _invert(x, h, cum, at_lines[-1] + unit * np.arange(1.0, right + 1))
     axis = np.concatenate([lpad, core, rpad])
