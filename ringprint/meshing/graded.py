@@ -14,15 +14,21 @@ The grid is a tensor product: each axis is planned on its own from
 
 **Grading rule.** Neighbouring spacings differ by at most ``GRADING`` (1.3) everywhere.
 The planner builds the largest spacing function ``H(x) = min_y [t(y) + g |x - y|]``
-over the targets ``t`` (the lower envelope of cones of slope ``g = ln GRADING``) and
-puts the nodes at whole-number values of ``I(x) = integral dx / H``. Along ``I`` the
-logarithm of ``H`` changes by at most ``g`` per unit, so two neighbouring cells (each
-one unit of ``I``) differ by at most ``exp(g) = GRADING``; every cell is no larger than
-the largest ``H`` over it. Where lines fix nodes, ``H`` is shrunk segment by segment
-(by ``I / ceil(I)``) and re-enveloped until every segment between lines holds a whole
-number of cells; then a feature bounded by lines gets exactly ``size / cell`` cells.
+over the targets ``t`` (the lower envelope of cones of slope ``g = 0.2``), shrunk by
+``1 + s`` (``s = 0.05``), and puts the nodes where ``I(x) = integral dx / H`` has
+advanced by ``q`` units, ``1 <= q <= 1 + s``. Along ``I`` the logarithm of ``H``
+changes by at most ``g`` per unit, so within a run of equal ``q`` two neighbouring
+cells differ by at most ``exp(g (1 + s)) = 1.234``, and across a change of ``q`` by at
+most about ``exp(g) (1 + 1.13 s) = 1.29``; no cell exceeds ``(1 + s)`` times ``H``
+over it, which is the target. Lines fix nodes: a segment between two lines holds a
+whole number of cells, so where its ``I`` falls short of that number of units, ``H``
+is lowered inside it under a cap that keeps its end values (found by bisection;
+the neighbours do not change) or, for a segment too short for that, under a flat
+cap, and the envelope is taken again; the slack ``s`` absorbs the small changes this
+makes in the neighbours, so the rounds end. A feature bounded by lines then gets
+exactly ``size / cell`` cells (more only where a finer neighbour grades through it).
 A target not bounded by lines is widened by one target cell on each side, so that
-every cell overlapping it obeys it.
+every cell overlapping it obeys it. The planner checks the ratio of its result.
 
 Outside the parts, cells grow towards the nominal air cell across the padding (which
 ends on a whole cell, so it is at least the padding asked for); the absorbing layer's
