@@ -76,7 +76,8 @@ def resolved_dict(case: Case) -> dict:
                         "size": length(case.probe.size_m)}
     out["grid"] = {"cells_per_wavelength": case.grid.cells_per_wavelength,
                    "padding": length(case.grid.padding_m),
-                   "absorber_cells": case.grid.absorber_cells}
+                   "absorber_cells": case.grid.absorber_cells, "graded": case.grid.graded,
+                   "min_feature": length(case.grid.min_feature_m)}
     out["analysis"] = {"q_max": case.analysis.q_max,
                        "detuning_margin": case.analysis.detuning_margin,
                        "grid_check": case.analysis.grid_check or False}
@@ -128,7 +129,8 @@ def digest(case: Case) -> str:
         "version": 1,
         "spectrum": [case.spectrum.f_min_hz, case.spectrum.f_max_hz, case.spectrum.loss_at_hz],
         "parts": parts, "probe": probe,
-        "grid": [case.grid.cells_per_wavelength, case.grid.padding_m, case.grid.absorber_cells],
+        "grid": [case.grid.cells_per_wavelength, case.grid.padding_m, case.grid.absorber_cells,
+                 case.grid.graded, case.grid.min_feature_m],
         "q_max": case.analysis.q_max,
     }
     text = json.dumps(_canonical(content), sort_keys=True, separators=(",", ":"), allow_nan=False)

@@ -47,6 +47,9 @@ unit such as ``"2.4 GHz"``)::
     cells_per_wavelength = 20           # n, in the densest material at f_max
     padding = 15.0                      # default lambda/(2 pi) at sqrt(f_min f_max)
     absorber_cells = 10                 # thickness of the absorbing layer, in cells
+    graded = true                       # grade the grid to the parts (false: uniform)
+    min_feature = 0.25                  # walls, gaps, slots thinner than this stay sub-cell
+                                        # (default: a tenth of the air cell, c0/(10 f_max n))
 
     [analysis]                          # optional
     q_max = 200                         # highest Q to resolve (>= 1)
@@ -149,12 +152,16 @@ class Probe:
 
 @dataclass(frozen=True)
 class Grid:
-    """Grid wishes: cells per wavelength at f_max in the densest material, air padding
-    between the parts and the absorbing layer (m), and that layer's thickness in cells."""
+    """Grid wishes: cells per wavelength at f_max (in each material on a graded grid,
+    in the densest one on a uniform grid), air padding between the parts and the
+    absorbing layer (m), that layer's thickness in cells, whether to grade the grid
+    to the parts, and the smallest feature (m) the graded grid resolves."""
 
     cells_per_wavelength: float
     padding_m: float
     absorber_cells: int
+    graded: bool = True
+    min_feature_m: float = 0.0
 
 
 @dataclass(frozen=True)
@@ -434,7 +441,8 @@ def _bands(ck: Checker, data: dict) -> tuple[tuple[str, ...], tuple[Band, ...]]:
 
 
 def _grid(ck: Checker, table, spectrum: Spectrum, unit: float) -> Grid:
-    ck.table(table, ("grid",), ("cells_per_wavelength", "padding", "absorber_cells"))
+    ck.table(table, ("grid",), ("cells_per_wavelength", "padding", "absorber_cells", "graded",
+                                "min_feature"))
     cells = ck.number(table.get("cells_per_wavelength", 20), ("grid", "cells_per_wavelength"),
                       low=10.0, hint="the solver needs at least 10 cells per wavelength in the "
                       "densest material at f_max (10-20 is common practice)")
@@ -443,7 +451,11 @@ def _grid(ck: Checker, table, spectrum: Spectrum, unit: float) -> Grid:
         else C0 / (2 * math.pi * centre)
     absorber = ck.number(table.get("absorber_cells", 10), ("grid", "absorber_cells"),
                          low=4, integer=True, hint="4-16 cells is common practice")
-    return Grid(float(cells), padding, absorber)
+    graded = ck.boolean(table.get("graded", True), ("grid", "graded"))
+    min_feature = ck.positive(table["min_feature"], ("grid", "min_feature"),
+                              hint="a length in the case units, e.g. a tenth of the air cell") * unit \
+        if "min_feature" in table else C0 / (spectrum.f_max_hz * cells) / 10
+    return Grid(float(cells), padding, absorber, graded, min_feature)
 
 
 def _grid_check(ck: Checker, value, grid: Grid) -> int:

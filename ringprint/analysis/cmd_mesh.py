@@ -2,11 +2,13 @@
 
 Reads CASE.toml, reads and checks every part, plans the grid and voxelizes. Prints
 each part (triangles, closed solid or open sheet, volume, size, material, notes),
-the grid (cells, cell size, padding, absorbing layer, time step), the memory a run
-needs and an estimate of its run time. Writes into DIR (default
-<case folder>/<case name>_mesh/): model.vti (part id, eps_r and conductor flag per
-cell, for a 3-D viewer), model.png (a preview picture) and case.resolved.toml (the
-case with every default filled in). Nothing is written when anything fails.
+the grid (cells, smallest and largest cell per axis, padding, absorbing layer, time
+step, and on a graded grid the walls, gaps and slots that forced its fine cells), the
+memory a run needs and an estimate of its run time. Writes into DIR (default
+<case folder>/<case name>_mesh/): model.vti on a uniform grid or model.vtr on a
+graded one (part id, eps_r and conductor flag per cell, for a 3-D viewer), model.png
+(a preview picture) and case.resolved.toml (the case with every default filled in).
+Nothing is written when anything fails.
 """
 
 from __future__ import annotations
@@ -17,7 +19,7 @@ from pathlib import Path
 
 import numpy as np
 
-from ringprint import fdtd
+from ringprint import fdtd, meshing
 from ringprint.analysis import ringdown, voxel_image
 from ringprint.analysis.case import Case, load_case
 from ringprint.analysis.model import Model, build_model
@@ -35,7 +37,11 @@ COURANT = 0.99
 #: run after installing also compiles the kernels (about a minute). Re-measure when the
 #: solver changes and update this figure.
 THROUGHPUT_CELLS_PER_S = 100e6
-FILES = ("model.vti", "model.png", "case.resolved.toml")
+FILES = ("model.png", "case.resolved.toml")
+#: Either voxel model name may be written (uniform / graded grid).
+MODEL_FILES = ("model.vti", "model.vtr")
+#: Refinement lines the summary prints (most restrictive first).
+SHOWN_REFINEMENTS = 6
 
 
 def add_arguments(parser: argparse.ArgumentParser) -> None:
@@ -94,8 +100,8 @@ def _length(metres: float, case: Case, digits: int = 4) -> str:
 def _part_rows(model: Model, owners: np.ndarray) -> list[str]:
     case = model.case
     u = case.units
-    cell_volume = model.grid.cell ** 3
     counts = np.bincount(owners.ravel(), minlength=len(model.parts) + 1)
+    owned = voxel_image.cell_volumes(model.grid, owners, len(model.parts))
     rows = []
     for i, p in enumerate(model.parts):
         kinds = sorted({s.kind for s in p.surfaces})
@@ -112,7 +118,7 @@ def _part_rows(model: Model, owners: np.ndarray) -> list[str]:
         n_cells = int(counts[i + 1])
         if not voxel_image.shows_crossed_cells(p):
             volume = sum(s.volume for s in p.surfaces) / case.unit_m ** 3
-            voxels = n_cells * cell_volume / case.unit_m ** 3
+            voxels = owned[i + 1] / case.unit_m ** 3
             # the mesh volume is exact (divergence theorem): enough digits to show it
             line += f", volume {volume:.10g} {u}^3, voxels {voxels:.4g} {u}^3 ({n_cells} cells)"
         else:
@@ -136,24 +142,65 @@ def _part_rows(model: Model, owners: np.ndarray) -> list[str]:
     return rows
 
 
+def _refinement_row(r, case: Case) -> str:
+    where = ", ".join(_length(v, case) for v in r.position)
+    parts = " / ".join(r.parts)
+    if not r.refined:
+        return (f"    {r.kind} {parts} along {r.axis}: {_length(r.size_m, case)} {case.units} at ({where}), "
+                f"thinner than min_feature: not refined, stays sub-cell")
+    what = "wavelength in" if r.kind == "dielectric" else f"{r.kind} of"
+    return (f"    {what} {parts} along {r.axis}: {_length(r.size_m, case)} {case.units} at ({where}) "
+            f"-> cells <= {_length(r.cell_m, case)} {case.units}")
+
+
+def _grid_rows(model: Model, estimate: dict) -> list[str]:
+    """The grid lines of the summary: cells, spacings, padding, layer, refinements."""
+    case, grid = model.case, model.grid
+    u = case.units
+    cells = [n - 1 for n in grid.shape]
+    if grid.uniform:
+        size = (f"cell {_length(grid.cell, case)} {u} ({case.grid.cells_per_wavelength:g} per "
+                "wavelength at f_max in the densest material)")
+    else:
+        per_axis = ", ".join(f"{n} {_length(d.min(), case)}..{_length(d.max(), case)}"
+                             for n, d in zip("xyz", grid.spacing))
+        size = (f"graded, cells {_length(grid.min_cell, case)} to {_length(grid.max_cell, case)} {u} "
+                f"({per_axis} {u}; air cell {_length(grid.cell, case)} {u} = "
+                f"{case.grid.cells_per_wavelength:g} per wavelength at f_max, neighbours within "
+                f"x{meshing.GRADING:g})")
+    bc = grid.boundary_cells
+    layer = min(a[bc] - a[0] for a in grid.axes)
+    rows = [f"grid: {cells[0]} x {cells[1]} x {cells[2]} cells = {estimate['cells']:,}, {size}, "
+            f"padding {_length(grid.padding, case)} {u}, absorbing layer {bc} cells "
+            f"({_length(layer, case)} {u}) on each face"]
+    fine = [r for r in grid.refinements if r.refined and r.cell_m < grid.cell]
+    if fine:
+        rows.append(f"  fine cells forced by ({len(fine)}, most restrictive first):")
+        rows += [_refinement_row(r, case) for r in fine[:SHOWN_REFINEMENTS]]
+        if len(fine) > SHOWN_REFINEMENTS:
+            rows.append(f"    ... and {len(fine) - SHOWN_REFINEMENTS} more")
+    coarse = [r for r in grid.refinements if not r.refined]
+    if coarse:
+        rows.append(f"  features thinner than min_feature {_length(grid.min_feature, case)} {u} "
+                    f"({len(coarse)}):")
+        rows += [_refinement_row(r, case) for r in coarse[:SHOWN_REFINEMENTS]]
+        if len(coarse) > SHOWN_REFINEMENTS:
+            rows.append(f"    ... and {len(coarse) - SHOWN_REFINEMENTS} more")
+    return rows
+
+
 def summary(model: Model, owners: np.ndarray, estimate: dict, case_path: str) -> str:
     """The text ``ringprint mesh`` prints (without the list of written files)."""
-    case, grid = model.case, model.grid
-    nodes = grid.shape
-    cells = [n - 1 for n in nodes]
+    case = model.case
     lines = [f"case: {case.title} ({case_path})",
              f"spectrum: {format_frequency(case.spectrum.f_min_hz, trim=True)} to "
              f"{format_frequency(case.spectrum.f_max_hz, trim=True)}, q_max {case.analysis.q_max:g}",
              f"parts ({len(model.parts)}):"]
     lines += _part_rows(model, owners)
-    layer = grid.boundary_cells * grid.cell
+    lines += _grid_rows(model, estimate)
     lines += [
-        f"grid: {cells[0]} x {cells[1]} x {cells[2]} cells = {estimate['cells']:,}, "
-        f"cell {_length(grid.cell, case)} {case.units} "
-        f"({case.grid.cells_per_wavelength:g} per wavelength at f_max in the densest material), "
-        f"padding {_length(grid.padding, case)} {case.units}, absorbing layer {grid.boundary_cells} "
-        f"cells ({_length(layer, case)} {case.units}) on each face",
-        f"time step: {format_si(estimate['dt_s'], 's')} (Courant factor {COURANT})",
+        f"time step: {format_si(estimate['dt_s'], 's')} (Courant factor {COURANT}, from the smallest "
+        f"cell on each axis)",
         f"memory: {format_bytes(model.memory['total'])} needed ("
         + ", ".join(f"{k} {format_bytes(v)}" for k, v in model.memory.items() if k != "total")
         + f"), {format_bytes(available_memory())} available",
@@ -173,9 +220,9 @@ def summary(model: Model, owners: np.ndarray, estimate: dict, case_path: str) ->
     return "\n".join(lines)
 
 
-def _check_names(out_dir: Path) -> list[Path]:
+def _check_names(out_dir: Path, names=MODEL_FILES + FILES) -> list[Path]:
     """The result paths, refusing a name taken by something that is not a file."""
-    finals = [out_dir / name for name in FILES]
+    finals = [out_dir / name for name in names]
     for final in finals:
         if final.exists() and not final.is_file():
             raise RingprintError(f"'{final}' exists and is not a file; move it away or choose "
@@ -184,12 +231,13 @@ def _check_names(out_dir: Path) -> list[Path]:
 
 
 def write_outputs(model: Model, owners: np.ndarray, out_dir: Path) -> list[Path]:
-    """Write model.vti, model.png and case.resolved.toml; all appear, or none does.
+    """Write model.vti (or model.vtr), model.png and case.resolved.toml; all appear, or
+    none does.
 
     Each file is written under a temporary name and all are renamed together at the
     end; a name taken by something that is not a file is refused before any writing.
     """
-    finals = _check_names(out_dir)
+    finals = _check_names(out_dir, (voxel_image.image_name(model.grid),) + FILES)
     image = voxel_image.voxel_image(model, owners)
     with contextlib.ExitStack() as stack:
         vti, png, toml = (stack.enter_context(atomic_path(f)) for f in finals)

@@ -151,11 +151,16 @@ def load_surfaces(case: Case, cell: float) -> list[PartModel]:
 
 
 def plan(case: Case, parts: list[PartModel]) -> meshing.Grid:
-    """The Yee grid for the case: cell size from f_max and the densest material."""
-    bounds = [s.bounds for p in parts for s in p.surfaces]
-    return meshing.plan_grid(bounds, case.spectrum.f_max_hz, eps_r_max(case),
+    """The Yee grid for the case: graded to the parts' surfaces and materials (each
+    part's own eps_r, its walls, gaps and slots) or, with ``[grid] graded = false``,
+    uniform at the cell of the densest material (:func:`ringprint.meshing.plan_grid`)."""
+    surfaces = [s for p in parts for s in p.surfaces]
+    return meshing.plan_grid(None, case.spectrum.f_max_hz, eps_r_max(case),
                              case.grid.cells_per_wavelength, padding=case.grid.padding_m,
-                             boundary_cells=case.grid.absorber_cells, f_min=case.spectrum.f_min_hz)
+                             boundary_cells=case.grid.absorber_cells, f_min=case.spectrum.f_min_hz,
+                             surfaces=surfaces, names=[p.name for p in parts for _ in p.surfaces],
+                             eps_r=[case.medium(p.part)[0] for p in parts for _ in p.surfaces],
+                             min_feature=case.grid.min_feature_m or None, graded=case.grid.graded)
 
 
 def build_model(case: Case, allow_memory: bool = False, progress=None,
@@ -189,14 +194,17 @@ def build_model(case: Case, allow_memory: bool = False, progress=None,
                        for ax, lo, hi in zip(grid.axes, *s.bounds)) for p in parts for s in p.surfaces]
         memory = meshing.memory_estimate(*grid.axes, boundary_cells=grid.boundary_cells,
                                          subrays=SUBRAYS, part_boxes=boxes)
-        meshing.check_memory(memory, allow=allow_memory)
-        thin = meshing.warn_thin_parts([s for p in parts for s in p.surfaces], grid.cell)
+        meshing.check_memory(memory, allow=allow_memory, graded=not grid.uniform)
+        local = {id(s): grid.local_cell(*s.bounds) for p in parts for s in p.surfaces}
+        thin = meshing.warn_thin_parts([s for p in parts for s in p.surfaces],
+                                       [local[id(s)] for p in parts for s in p.surfaces])
         total = sum(len(p.surfaces) for p in parts)
         done = 0
         for p in parts:
             p.thin = any(s.name in thin for s in p.surfaces)
             for s in p.surfaces:
-                cuts = p.is_conductor and (p.thin or meshing.thickness(s, grid.cell / 2) < THIN_CELLS * grid.cell)
+                cell = local[id(s)]
+                cuts = p.is_conductor and (p.thin or meshing.thickness(s, cell / 2) < THIN_CELLS * cell)
                 p.fills.append(meshing.voxelize(s, *grid.axes, subrays=SUBRAYS, cuts=cuts,
                                                 faces=conformal and p.is_conductor and not cuts
                                                 and s.kind == "solid"))

@@ -20,8 +20,9 @@ looking at a model, one value per *cell* is easier to read, so this module makes
 - **conductor**: 1 where the owner part is a conductor; **pec_edges**: how many of
   the cell's 12 edges the solver treats as perfect conductor (0-12).
 
-The image covers the whole domain, absorbing layer included, in metres. Its field
-data holds ``part_names`` and ``part_materials`` (index = part id, entry 0 "air").
+The image covers the whole domain, absorbing layer included, in metres: a VTK image
+(``.vti``) on a uniform grid, a rectilinear grid (``.vtr``, the node vectors) on a
+graded one. Its field data holds ``part_names`` and ``part_materials`` (index = part id, entry 0 "air").
 """
 
 from __future__ import annotations
@@ -32,10 +33,10 @@ import numpy as np
 
 from ringprint import meshing
 from ringprint.analysis.model import Model
-from ringprint.errors import RingprintError
 
 __all__ = ["cell_centres", "cell_owners", "shows_crossed_cells", "cell_eps_r", "cell_pec_edges",
-           "voxel_image", "material_label", "material_colours", "render_preview"]
+           "cell_volumes", "image_name", "voxel_image", "material_label", "material_colours",
+           "render_preview"]
 
 #: Okabe & Ito's palette for colour-blind readers (orange, sky blue, bluish green,
 #: yellow, blue, vermillion, reddish purple), used for dielectric materials in turn.
@@ -123,6 +124,17 @@ def cell_eps_r(model: Model) -> np.ndarray:
     return (_edges_to_cells(*model.eps_r, np.float64) / 12.0).astype(np.float32)
 
 
+def cell_volumes(grid: meshing.Grid, owners: np.ndarray, n_parts: int) -> np.ndarray:
+    """Volume (m^3) of the cells each part id owns (index 0 = air), summed one x
+    slab at a time so no volume array of the whole grid is made."""
+    dx, dy, dz = grid.spacing
+    face = np.outer(dy, dz).ravel()
+    out = np.zeros(n_parts + 1)
+    for i in range(owners.shape[0]):
+        out += np.bincount(owners[i].ravel(), weights=dx[i] * face, minlength=n_parts + 1)
+    return out
+
+
 def cell_pec_edges(model: Model) -> np.ndarray:
     """Number (0-12) of each cell's edges that are perfect conductor, uint8."""
     return _edges_to_cells(*model.pec, np.uint8)
@@ -155,27 +167,25 @@ def material_colours(model: Model) -> list:
     return out
 
 
-def _uniform_spacing(grid: meshing.Grid) -> tuple:
-    steps = []
-    for name, a in zip("xyz", grid.axes):
-        d = np.diff(a)
-        if not np.allclose(d, d[0], rtol=1e-9, atol=0.0):
-            raise RingprintError(f"grid axis {name} is not uniform; the voxel image needs a "
-                                 "uniform grid (plan it with meshing.plan_grid)")
-        steps.append(float(d.mean()))
-    return tuple(steps)
+def image_name(grid: meshing.Grid) -> str:
+    """File name of the voxel model: ``model.vti`` (uniform grid) or ``model.vtr``."""
+    return "model.vti" if grid.uniform else "model.vtr"
 
 
 def voxel_image(model: Model, owners: np.ndarray | None = None):
-    """The voxel model as a :class:`pyvista.ImageData` (cell data and field data in the
-    module doc); ``owners`` reuses a :func:`cell_owners` result."""
+    """The voxel model as a :class:`pyvista.ImageData` on a uniform grid, a
+    :class:`pyvista.RectilinearGrid` (the node vectors themselves) on a graded one
+    (cell data and field data in the module doc); ``owners`` reuses a
+    :func:`cell_owners` result."""
     import pyvista as pv
 
     grid = model.grid
-    spacing = _uniform_spacing(grid)
     owners = cell_owners(model) if owners is None else owners
-    image = pv.ImageData(dimensions=grid.shape, spacing=spacing,
-                         origin=(float(grid.x[0]), float(grid.y[0]), float(grid.z[0])))
+    if grid.uniform:
+        image = pv.ImageData(dimensions=grid.shape, spacing=(grid.cell,) * 3,
+                             origin=(float(grid.x[0]), float(grid.y[0]), float(grid.z[0])))
+    else:
+        image = pv.RectilinearGrid(grid.x, grid.y, grid.z)
     image.cell_data["part_id"] = owners.ravel(order="F")  # VTK: x varies fastest
     image.cell_data["eps_r"] = cell_eps_r(model).ravel(order="F")
     conductor_ids = np.array([False] + [p.is_conductor for p in model.parts])
@@ -238,9 +248,10 @@ def render_preview(model: Model, image, path, window_size=(1200, 900)) -> None:
                                  smooth_shading=False)
             lo = np.array([a[0] for a in grid.axes])
             hi = np.array([a[-1] for a in grid.axes])
-            inset = grid.boundary_cells * grid.cell
+            bc = grid.boundary_cells
             plotter.add_mesh(_box(lo, hi), style="wireframe", color="#999999", line_width=1)
-            plotter.add_mesh(_box(lo + inset, hi - inset), style="wireframe", color="black", line_width=2)
+            plotter.add_mesh(_box([a[bc] for a in grid.axes], [a[-1 - bc] for a in grid.axes]),
+                             style="wireframe", color="black", line_width=2)
             legend.append(["domain edge", "#999999"])
             legend.append([f"absorbing layer inner face ({grid.boundary_cells} cells)", "black"])
             _legend(plotter, legend)

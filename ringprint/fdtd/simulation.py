@@ -111,10 +111,22 @@ class Simulation:
 
     # ------------------------------------------------------------------ set-up
     def _check_resolution(self, f_max):
-        eps = self.media.eps_r_max
+        """Cells per wavelength where it is worst: on a graded grid each E-edge's own
+        spacings (its edge and dual lengths) against the wavelength in its medium."""
+        root = np.sqrt(np.where(np.isfinite(self.media.eps_r_table), self.media.eps_r_table, 1.0))
+        worst, eps, d = 0.0, 1.0, 0.0
+        for a, idx in enumerate(self.media.index):
+            local = root[idx]
+            for b in range(3):
+                steps = self.grid.spacing[b] if b == a else self.grid.dual_spacing[b]
+                others = tuple(o for o in range(3) if o != b)
+                line = local.max(axis=others) * steps
+                k = int(np.argmax(line))
+                if line[k] > worst:
+                    worst, d, eps = float(line[k]), float(steps[k]), float(local.max(axis=others)[k]) ** 2
         lam = C0 / (f_max * np.sqrt(eps))
-        d = self.grid.max_spacing()
-        if not (np.isfinite(f_max) and f_max > 0) or lam / d < MIN_CELLS_PER_WAVELENGTH:
+        # 1e-12: round-off of the spacings must not refuse a grid planned at exactly the limit
+        if not (np.isfinite(f_max) and f_max > 0) or lam / d < MIN_CELLS_PER_WAVELENGTH * (1 - 1e-12):
             ok = C0 / (MIN_CELLS_PER_WAVELENGTH * d * np.sqrt(eps))
             raise RingprintError(
                 f"f_max = {f_max:.6g} Hz is too high for this grid: {lam / d:.3g} cells per wavelength "

@@ -6,6 +6,8 @@ part". Coordinates are metres once :func:`transform_surface` has applied the uni
 
 from ringprint.meshing.checks import HOLE_FRACTION, MeshingWarning, prepare_surface
 from ringprint.meshing.conformal import conformal_fractions, edge_lines
+from ringprint.meshing.features import GAP_CELLS, WALL_CELLS, Refinement, find_features
+from ringprint.meshing.graded import GRADING, plan_axis
 from ringprint.meshing.grid import (Grid, available_memory, cell_size, check_memory, default_padding,
                                     memory_estimate, plan_grid, thickness, warn_thin_parts)
 from ringprint.meshing.overlap import resolve_overlaps
@@ -18,10 +20,12 @@ from ringprint.meshing.voxelize import (EdgeBox, PartFill, dual_nodes, edge_frac
                                         voxelize)
 
 __all__ = [
-    "CAD_EXTENSIONS", "EdgeBox", "Grid", "HOLE_FRACTION", "MESH_EXTENSIONS", "MeshingWarning",
-    "PartFill", "Surface", "UNITS", "available_memory", "body_labels", "body_names", "cell_size",
-    "check_memory", "conformal_fractions", "default_padding", "dual_nodes", "edge_fractions",
-    "edge_lines", "load_parts", "memory_estimate", "pick_body", "place_parts", "plan_grid",
+    "CAD_EXTENSIONS", "EdgeBox", "GAP_CELLS", "GRADING", "Grid", "HOLE_FRACTION",
+    "MESH_EXTENSIONS", "MeshingWarning", "PartFill", "Refinement", "Surface", "UNITS", "WALL_CELLS",
+    "available_memory", "body_labels", "body_names", "cell_size", "check_memory",
+    "conformal_fractions", "default_padding", "dual_nodes", "edge_fractions", "edge_lines",
+    "find_features", "load_parts", "memory_estimate", "pick_body", "place_parts", "plan_axis",
+    "plan_grid",
     "prepare_surface", "read_surfaces", "resolve_overlaps", "rotation_matrix", "signed_volume",
     "surface_cuts", "thickness", "transform_surface", "unit_scale", "voxelize", "warn_thin_parts",
 ]

@@ -1,4 +1,4 @@
-"""Grid planning: cell size, padding, absorbing-layer cells, thin parts, memory."""
+"""Grid planning: cell size, padding, absorbing-layer cells, uniform or graded grids, thin parts, memory."""
 
 import math
 import os
@@ -9,6 +9,7 @@ import numpy as np
 
 from ringprint.errors import RingprintError
 from ringprint.meshing import _rays
+from ringprint.meshing import graded as graded_mod
 from ringprint.meshing.checks import MeshingWarning
 
 C0 = 299_792_458.0  # speed of light in vacuum, m/s (exact, SI 2019)
@@ -19,9 +20,13 @@ class Grid:
     """Node coordinate vectors of a Yee grid (metres) and how they were chosen.
 
     ``x``, ``y``, ``z`` are the whole computational domain, absorbing layer included
-    (DEVELOPERS.md array conventions). ``cell`` is the (uniform) cell size,
-    ``padding`` the air gap between the parts' bounding box and the absorbing
-    layer, ``boundary_cells`` the absorbing layer's thickness in cells.
+    (DEVELOPERS.md array conventions). ``cell`` is the nominal cell size: the uniform
+    spacing of a uniform grid, the largest (air) spacing of a graded one. ``padding``
+    is the air gap between the parts' bounding box and the absorbing layer,
+    ``boundary_cells`` the absorbing layer's thickness in cells; ``refinements``
+    (graded grids) lists what forced fine cells
+    (:class:`ringprint.meshing.features.Refinement`, most restrictive first) and
+    ``min_feature`` the size below which features were left sub-cell.
     """
 
     x: np.ndarray
@@ -30,6 +35,41 @@ class Grid:
     cell: float
     padding: float
     boundary_cells: int
+    refinements: tuple = ()
+    min_feature: float | None = None
+
+    @property
+    def spacing(self):
+        """Cell sizes per axis: ``(np.diff(x), np.diff(y), np.diff(z))``."""
+        return tuple(np.diff(a) for a in self.axes)
+
+    @property
+    def min_cell(self):
+        """Smallest spacing on any axis (m)."""
+        return float(min(d.min() for d in self.spacing))
+
+    @property
+    def max_cell(self):
+        """Largest spacing on any axis (m)."""
+        return float(max(d.max() for d in self.spacing))
+
+    @property
+    def uniform(self):
+        """True when every spacing equals ``cell`` (to 1e-9 relative)."""
+        return all(np.allclose(d, self.cell, rtol=1e-9, atol=0.0) for d in self.spacing)
+
+    def local_cell(self, lo, hi):
+        """Cell size a part with bounding box ``lo..hi`` sees: per axis the largest
+        spacing among the cells overlapping the box, the smallest over the three axes
+        (``cell`` on a uniform grid)."""
+        if self.uniform:
+            return self.cell
+        out = []
+        for a, d, l, h in zip(self.axes, self.spacing, lo, hi):
+            i0 = max(int(np.searchsorted(a, l, "right")) - 1, 0)
+            i1 = min(max(int(np.searchsorted(a, h, "left")), i0 + 1), d.size)
+            out.append(float(d[i0:i1].max()))
+        return min(out)
 
     @property
     def shape(self):
@@ -77,36 +117,62 @@ def default_padding(lo, hi, f_min=None):
 
 
 def plan_grid(bounds, f_max, eps_r_max=1.0, cells_per_wavelength=20, padding=None,
-              boundary_cells=10, f_min=None, min_padding_cells=5):
-    """Plan a uniform Yee grid around the parts.
+              boundary_cells=10, f_min=None, min_padding_cells=5, *, surfaces=None, eps_r=None,
+              names=None, min_feature=None, graded=True):
+    """Plan the Yee grid around the parts: uniform, or graded to the parts' features.
 
     Parameters
     ----------
-    bounds : (lo, hi) or list of (lo, hi)
+    bounds : (lo, hi) or list of (lo, hi) or None
         Bounding boxes of the parts (metres); their union is gridded.
-        ``[s.bounds for s in surfaces]`` works.
+        ``[s.bounds for s in surfaces]`` works; None takes the surfaces' bounds.
     f_max : float
         Highest frequency of interest (Hz).
     eps_r_max : float
-        Largest relative permittivity present.
+        Largest relative permittivity present (uniform grids; the default for
+        surfaces without ``eps_r``).
     cells_per_wavelength : float
-        Cells per wavelength in the densest material at ``f_max``.
+        Cells per wavelength at ``f_max``: in the densest material for a uniform grid,
+        in each material for a graded one.
     padding : float or None
         Air gap (m) on every side; default :func:`default_padding`, at least
-        ``min_padding_cells`` cells.
+        ``min_padding_cells`` nominal cells.
     boundary_cells : int
         Cells added outside the padding for the solver's absorbing layer.
     f_min : float or None
         Lowest frequency of interest (Hz), used by the default padding.
+    surfaces : list of Surface or None
+        Checked part surfaces (metres). Without them the grid is uniform.
+    eps_r : sequence of float or None
+        Relative permittivity of each surface (1 for conductors and air); default
+        ``eps_r_max`` for every surface.
+    names : sequence of str or None
+        The part each surface belongs to (for the refinement records); default the
+        surfaces' names.
+    min_feature : float or None
+        Walls, gaps and slots thinner than this (m) are not refined for; default a
+        tenth of the nominal air cell.
+    graded : bool
+        Grade the grid to the parts (:mod:`ringprint.meshing.graded`); False gives
+        the uniform grid.
 
     Returns
     -------
     Grid
-        Uniform node vectors; the parts' box is centred in the domain.
+        Uniform: cell ``c0 / (f_max sqrt(eps_r_max) n)``, the parts' box centred in the
+        domain. Graded: nominal cell ``c0 / (f_max n)`` (air), nodes on the parts'
+        flat faces and box faces, neighbouring spacings within a factor 1.3.
+
+    References
+    ----------
+    Taflove, A. & Hagness, S. C., Computational Electrodynamics, 3rd ed., 2005,
+    ch. 4 (cells per wavelength) and ch. 7 (absorbing layer).
     """
+    if bounds is None and surfaces:
+        bounds = [s.bounds for s in surfaces]
     if isinstance(bounds, tuple) and len(bounds) == 2 and np.ndim(bounds[0]) == 1:
         bounds = [bounds]
-    if len(bounds) == 0:
+    if bounds is None or len(bounds) == 0:
         raise RingprintError("plan_grid got no parts: give at least one bounding box")
     lo = np.min([np.asarray(b[0], float) for b in bounds], axis=0)
     hi = np.max([np.asarray(b[1], float) for b in bounds], axis=0)
@@ -114,11 +180,24 @@ def plan_grid(bounds, f_max, eps_r_max=1.0, cells_per_wavelength=20, padding=Non
         raise RingprintError(f"part bounds {lo}..{hi} are not finite/ordered; check the part transforms")
     if int(boundary_cells) != boundary_cells or boundary_cells < 0:
         raise RingprintError(f"boundary_cells = {boundary_cells!r} must be a non-negative integer")
-    h = cell_size(f_max, eps_r_max, cells_per_wavelength)
+    graded = bool(graded) and bool(surfaces)
+    h = cell_size(f_max, 1.0 if graded else eps_r_max, cells_per_wavelength)
     pad = default_padding(lo, hi, f_min) if padding is None else float(padding)
     if not (np.isfinite(pad) and pad >= 0):
         raise RingprintError(f"padding = {padding!r} must be a non-negative length in metres")
     pad = max(pad, min_padding_cells * h) if padding is None else pad
+    if graded:
+        eps = [float(eps_r_max)] * len(surfaces) if eps_r is None else [float(e) for e in eps_r]
+        labels = [s.name for s in surfaces] if names is None else list(names)
+        if len(eps) != len(surfaces) or len(labels) != len(surfaces):
+            raise RingprintError(f"plan_grid got {len(surfaces)} surfaces but {len(eps)} eps_r values "
+                                 f"and {len(labels)} names: give one of each per surface")
+        if any(not (np.isfinite(e) and e >= 1) for e in eps):
+            raise RingprintError(f"eps_r {eps} must all be finite and >= 1 (1 for conductors)")
+        mf = graded_mod.check_min_feature(h / 10 if min_feature is None else min_feature, h)
+        axes, records = graded_mod.graded_axes(surfaces, labels, eps, f_max, cells_per_wavelength, pad,
+                                               int(boundary_cells), mf, lo, hi)
+        return Grid(axes[0], axes[1], axes[2], h, pad, int(boundary_cells), records, mf)
     centre = (lo + hi) / 2
     axes = []
     for d in range(3):
@@ -163,10 +242,13 @@ def thickness(surface, spacing, max_rays=128):
 def warn_thin_parts(surfaces, cell):
     """Warn (MeshingWarning naming the part) for solids thinner than one cell.
 
-    Returns ``{name: estimated thickness}`` of the parts warned about.
+    ``cell`` is one size for all, or one per surface (on a graded grid,
+    :meth:`Grid.local_cell` of each part's box). Returns ``{name: estimated
+    thickness}`` of the parts warned about.
     """
     thin = {}
-    for s in surfaces:
+    cells = np.broadcast_to(np.asarray(cell, np.float64), (len(surfaces),))
+    for s, cell in zip(surfaces, cells):
         if s.kind == "sheet":
             continue
         t = thickness(s, cell / 2)
@@ -217,10 +299,11 @@ def available_memory():
     return os.sysconf("SC_AVPHYS_PAGES") * os.sysconf("SC_PAGE_SIZE")
 
 
-def check_memory(estimate, available=None, allow=False):
+def check_memory(estimate, available=None, allow=False, graded=False):
     """Refuse (RingprintError with the numbers) a run that needs more than is free.
 
-    ``allow=True`` overrides the refusal (the user knows better, e.g. swap).
+    ``allow=True`` overrides the refusal (the user knows better, e.g. swap);
+    ``graded=True`` adds the graded grid's own remedy (a larger min_feature).
     """
     need = estimate["total"] if isinstance(estimate, dict) else int(estimate)
     have = available_memory() if available is None else int(available)
@@ -228,6 +311,8 @@ def check_memory(estimate, available=None, allow=False):
         parts = ", ".join(f"{k} {v / 2**30:.2f}" for k, v in estimate.items() if k != "total") \
             if isinstance(estimate, dict) else ""
         raise RingprintError(f"the run needs {need / 2**30:.2f} GiB ({parts}) but only "
-                             f"{have / 2**30:.2f} GiB is available: lower cells_per_wavelength or "
+                             f"{have / 2**30:.2f} GiB is available: "
+                             + ("raise [grid] min_feature (thinner walls and gaps stay sub-cell), " if graded else "")
+                             + "lower cells_per_wavelength or "
                              "f_max, shrink the padding, or override the memory check (--ignore-memory-check)")
     return need

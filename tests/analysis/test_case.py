@@ -163,6 +163,9 @@ def test_defaults(tmp_path):
     # padding default: the radiansphere radius lambda/(2 pi) at sqrt(f_min f_max) (Wheeler 1947)
     assert case.grid.padding_m == pytest.approx(C0 / (2 * math.pi * 2e9), rel=1e-12)
     assert case.output.fields and case.output.images
+    # graded grid by default; min_feature a tenth of the air cell c0 / (f_max n)
+    assert case.grid.graded is True
+    assert case.grid.min_feature_m == pytest.approx(C0 / (4e9 * 20) / 10, rel=1e-12)
     # probe size default: two air cells at f_max
     case = load_case(write_case(tmp_path, minimal('[probe]\nat = [0, 0, 0]\nnormal = "y"\n')))
     assert case.probe.size_m == pytest.approx(2 * C0 / (4e9 * 20), rel=1e-12)
@@ -265,6 +268,30 @@ def test_digest_tracks_what_changes_the_run(tmp_path):
     assert changed != base
     path.write_text(EXAMPLE.replace("padding = 15.0", "padding = 16.0"))
     assert load_case(path).digest() not in (base, changed)
+
+
+def test_grid_graded_and_min_feature_keys(tmp_path):
+    case = load_case(write_case(tmp_path, minimal("[grid]\ngraded = false\nmin_feature = 0.05\n")))
+    assert case.grid.graded is False and case.grid.min_feature_m == pytest.approx(0.05e-3, rel=1e-12)
+    data = tomllib.loads(case.resolved_toml())
+    assert data["grid"]["graded"] is False and data["grid"]["min_feature"] == pytest.approx(0.05, rel=1e-12)
+    # both keys change the simulated grid, so both enter the digest
+    base = load_case(write_case(tmp_path, minimal())).digest()
+    assert load_case(write_case(tmp_path, minimal("[grid]\ngraded = false\n"))).digest() != base
+    assert load_case(write_case(tmp_path, minimal("[grid]\nmin_feature = 0.05\n"))).digest() != base
+    # the default min_feature is written out and reads back to the same digest
+    again = tmp_path / "again.toml"
+    again.write_text(load_case(write_case(tmp_path, minimal())).resolved_toml())
+    assert load_case(again).digest() == base
+
+
+@pytest.mark.parametrize("text,fragment", [("min_feature = 0", "min_feature"), ("min_feature = -1", "min_feature"),
+                                           ('graded = "yes"', "true or false")])
+def test_grid_bad_graded_keys(tmp_path, text, fragment):
+    path = write_case(tmp_path, minimal(f"[grid]\n{text}\n"))
+    with pytest.raises(RingprintError, match=fragment) as info:
+        load_case(path)
+    assert str(info.value).startswith(f"{path}:") and "\n" not in str(info.value)
 
 
 def test_error_message_shape(tmp_path):

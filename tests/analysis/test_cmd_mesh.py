@@ -1,7 +1,9 @@
-"""``ringprint mesh``: summary, model.vti, model.png and case.resolved.toml.
+"""``ringprint mesh``: summary, model.vti/.vtr, model.png and case.resolved.toml.
 
 The small case is a dielectric box (eps_r 4) and a PEC sheet, both written as STL
-with meshio in mm. References used below:
+with meshio in mm, meshed once on a uniform grid (``graded = false``: the checks
+below that use one cell size need it) and once on the default graded grid.
+References used below:
 
 - box volume: the product of its sides (the triangle mesh is exact, so the
   divergence-theorem volume must agree to round-off, 1e-9 relative);
@@ -10,9 +12,9 @@ with meshio in mm. References used below:
   product of the numbers of cell centres inside each side, counted here from the grid
   vectors alone; the staircase error bound follows: each side is covered by between
   (L/h - 1) and (L/h + 1) cells, so |N h^3 - V| <= (Lx+h)(Ly+h)(Lz+h) - Lx Ly Lz;
-- time step: the Yee Courant limit on a uniform cubic grid,
-  dt = S h / (c sqrt(3)) (Taflove & Hagness, Computational Electrodynamics, 3rd ed.
-  2005, eq. 4.95 with equal cell sides).
+- time step: the Yee Courant limit, dt = S / (c sqrt(sum_i 1/d_i^2)) with the
+  smallest cell d_i on each axis; on a uniform cubic grid dt = S h / (c sqrt(3))
+  (Taflove & Hagness, Computational Electrodynamics, 3rd ed. 2005, eq. 4.95).
 """
 
 from __future__ import annotations
@@ -55,7 +57,7 @@ def box_mesh(lo, size):
     return pts, tri
 
 
-def write_small_case(folder: Path, extra: str = "") -> Path:
+def write_small_case(folder: Path, extra: str = "", grid: str = "graded = false\n") -> Path:
     pts, tri = box_mesh(BOX_LO, BOX_SIZE)
     meshio.write_points_cells(folder / "box.stl", pts, [("triangle", tri)], binary=True)
     sheet = np.array([[0.5, 0.5, SHEET_Z], [6.0, 0.5, SHEET_Z], [6.0, 4.5, SHEET_Z], [0.5, 4.5, SHEET_Z]])
@@ -78,22 +80,32 @@ material = "pec"
 [grid]
 cells_per_wavelength = {CPW}
 padding = {PAD}
-{extra}""")
+{grid}{extra}""")
     return case
 
 
-@pytest.fixture(scope="module")
-def meshed(tmp_path_factory):
-    """Run ``ringprint mesh`` once on the small case; share the result (capsys is
-    function-scoped, so the streams are captured by hand)."""
-    folder = tmp_path_factory.mktemp("small")
-    case = write_small_case(folder)
+def _mesh(folder: Path, case: Path) -> dict:
     out = folder / "out"
     stdout, stderr = io.StringIO(), io.StringIO()
     with contextlib.redirect_stdout(stdout), contextlib.redirect_stderr(stderr):
         code = cli.main(["mesh", str(case), "--out", str(out)])
     return {"code": code, "out": out, "case": case, "stdout": stdout.getvalue(),
             "stderr": stderr.getvalue()}
+
+
+@pytest.fixture(scope="module")
+def meshed(tmp_path_factory):
+    """Run ``ringprint mesh`` once on the small case, uniform grid; share the result
+    (capsys is function-scoped, so the streams are captured by hand)."""
+    folder = tmp_path_factory.mktemp("small")
+    return _mesh(folder, write_small_case(folder))
+
+
+@pytest.fixture(scope="module")
+def meshed_graded(tmp_path_factory):
+    """The same case on the default graded grid."""
+    folder = tmp_path_factory.mktemp("small_graded")
+    return _mesh(folder, write_small_case(folder, grid=""))
 
 
 def test_exit_code_and_files(meshed):
@@ -202,6 +214,84 @@ def test_run_time_estimate_follows_its_basis(meshed):
     assert f"{est['steps']:,} steps" in meshed["stdout"]
 
 
+def test_graded_files_and_summary(meshed_graded):
+    """On the default graded grid: model.vtr holds the grid's own node vectors; the
+    summary gives the smallest and largest cell per axis and what forced the fine ones."""
+    from ringprint.analysis.model import build_model
+
+    assert meshed_graded["code"] == 0, meshed_graded["stderr"]
+    out = meshed_graded["out"]
+    assert sorted(p.name for p in out.iterdir()) == ["case.resolved.toml", "model.png", "model.vtr"]
+    model = build_model(load_case(meshed_graded["case"]))
+    grid = model.grid
+    assert not grid.uniform
+    image = pv.read(out / "model.vtr")
+    assert isinstance(image, pv.RectilinearGrid)
+    for got, want in zip((image.x, image.y, image.z), grid.axes):
+        np.testing.assert_allclose(got, want, rtol=0, atol=1e-15)
+    assert list(image.field_data["part_names"]) == ["air", "block", "plate"]
+    text = meshed_graded["stdout"]
+    line = re.search(r"^grid: .*graded, cells ([0-9.]+) to ([0-9.]+) mm \(x ([0-9.]+)\.\.([0-9.]+), ", text, re.M)
+    assert line, text
+    assert float(line.group(1)) == pytest.approx(grid.min_cell * 1e3, rel=1e-3)  # 4 digits printed
+    assert float(line.group(2)) == pytest.approx(grid.max_cell * 1e3, rel=1e-3)
+    assert float(line.group(3)) == pytest.approx(grid.spacing[0].min() * 1e3, rel=1e-3)
+    # the block (eps_r 4) forces cells of c0 / (f_max sqrt(4) n) across it
+    assert "fine cells forced by" in text and "wavelength in block along x" in text
+    # the box's volume from the owned cells, cell by cell, stays within the staircase bound
+    block = re.search(r"voxels ([0-9.e+-]+) mm\^3", text)
+    h = grid.max_cell * 1e3
+    assert abs(float(block.group(1)) - np.prod(BOX_SIZE)) <= np.prod(BOX_SIZE + h) - np.prod(BOX_SIZE)
+
+
+def test_graded_run_time_uses_the_real_time_step_and_cells(meshed_graded):
+    """dt from the smallest cell on each axis (Taflove & Hagness 2005, eq. 4.95) and the
+    graded grid's own cell count."""
+    from ringprint.analysis.cmd_mesh import COURANT, run_time_estimate
+    from ringprint.analysis.model import build_model
+
+    model = build_model(load_case(meshed_graded["case"]))
+    est = run_time_estimate(model, throughput=1e7)
+    d_min = [d.min() for d in model.grid.spacing]
+    assert est["dt_s"] == pytest.approx(COURANT / (C0 * math.sqrt(sum(1 / d ** 2 for d in d_min))), rel=1e-12)
+    assert est["dt_s"] < COURANT * model.grid.cell / (C0 * math.sqrt(3))  # finer than the air cell's
+    assert est["cells"] == math.prod(len(a) - 1 for a in model.grid.axes)
+    assert f"{est['steps']:,} steps" in meshed_graded["stdout"]
+
+
+def test_tiny_min_feature_refused_for_memory(tmp_path, capsys, monkeypatch):
+    """A 0.02 mm slit between two plates: the default min_feature (0.15 mm here) leaves
+    it sub-cell; min_feature = 0.005 mm refines it, the estimate grows, and with the
+    available memory set between the two estimates the run is refused in one line
+    naming the key and the fix, and nothing is written."""
+    from ringprint.analysis.model import build_model
+    from ringprint.meshing import grid as grid_module
+
+    pts, tri = box_mesh((0, 0, 0), (20, 20, 1))
+    meshio.write_points_cells(tmp_path / "lower.stl", pts, [("triangle", tri)])
+    pts, tri = box_mesh((0, 0, 1.02), (20, 20, 1))
+    meshio.write_points_cells(tmp_path / "upper.stl", pts, [("triangle", tri)])
+    needs = {}
+    for name, extra in (("coarse", ""), ("fine", "min_feature = 0.005\n")):
+        case = tmp_path / f"{name}.toml"
+        case.write_text(f"""units = "mm"\n[spectrum]\nf_min = "2 GHz"\nf_max = "10 GHz"\n
+[[part]]\nname = "lower"\nfile = "lower.stl"\nmaterial = "pec"\n
+[[part]]\nname = "upper"\nfile = "upper.stl"\nmaterial = "pec"\n[grid]\n{extra}""")
+        assert cli.main(["mesh", str(case), "--out", str(tmp_path / name)]) == 0
+        text = capsys.readouterr().out
+        needs[name] = build_model(load_case(case)).memory["total"]
+        if name == "coarse":
+            assert "thinner than min_feature" in text
+    assert needs["fine"] > 1.1 * needs["coarse"]
+    monkeypatch.setattr(grid_module, "available_memory", lambda: int((needs["fine"] + needs["coarse"]) / 2))
+    out = tmp_path / "refused"
+    assert cli.main(["mesh", str(tmp_path / "fine.toml"), "--out", str(out)]) == 1
+    err = capsys.readouterr().err.splitlines()
+    assert len(err) == 1 and "Traceback" not in err[0], err
+    assert "min_feature" in err[0] and "GiB" in err[0] and str(tmp_path / "fine.toml") in err[0]
+    assert not out.exists() or list(out.iterdir()) == []
+
+
 def test_default_out_dir_is_beside_the_case(tmp_path, capsys):
     case = write_small_case(tmp_path, extra="[analysis]\nq_max = 50\n")
     assert cli.main(["mesh", str(case)]) == 0
@@ -217,6 +307,7 @@ def test_demo_case_meshes(tmp_path, capsys):
     text = capsys.readouterr().out
     for name in ("ground plane", "shield can", "coin-cell holder", "flex strip", "housing"):
         assert name in text
-    image = pv.read(tmp_path / "tag" / "model.vti")
+    (name,) = [p.name for p in (tmp_path / "tag").glob("model.vt?")]
+    image = pv.read(tmp_path / "tag" / name)
     ids = np.asarray(image.cell_data["part_id"])
     assert set(np.unique(ids)) == {0, 1, 2, 3, 4, 5}  # every part owns cells

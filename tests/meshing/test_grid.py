@@ -79,3 +79,64 @@ def test_memory_estimate_and_refusal():
         check_memory(est, available=1000)
     assert check_memory(est, available=1000, allow=True) == est["total"]
     assert check_memory(est) == est["total"]  # this small run fits in any test machine
+
+
+def test_grid_properties_uniform_and_graded():
+    """spacing/min_cell/max_cell/uniform/local_cell from the node vectors themselves."""
+    s = prepare_surface(box((0, 0, 0), (0.01, 0.01, 0.001)))
+    g = plan_grid(s.bounds, f_max=6e9, boundary_cells=4)
+    assert g.uniform and g.refinements == ()
+    assert g.min_cell == pytest.approx(g.cell, rel=1e-9) and g.max_cell == pytest.approx(g.cell, rel=1e-9)
+    assert all(np.array_equal(d, np.diff(a)) for d, a in zip(g.spacing, g.axes))
+    assert g.local_cell(*s.bounds) == g.cell
+    # the same part planned graded: a 1 mm plate at 6 GHz (air cell 2.5 mm) needs two
+    # cells of 0.5 mm across it along z (WALL_CELLS), so the cell it sees is 0.5 mm
+    gg = plan_grid(None, f_max=6e9, boundary_cells=4, surfaces=[s], eps_r=[1.0])
+    assert not gg.uniform
+    assert gg.cell == pytest.approx(C0 / 6e9 / 20, rel=1e-12)
+    assert gg.max_cell == pytest.approx(gg.cell, rel=1e-9)
+    assert gg.min_cell == pytest.approx(0.0005, rel=1e-9)
+    assert gg.local_cell(*s.bounds) == pytest.approx(0.0005, rel=1e-9)
+    assert [r.kind for r in gg.refinements if r.axis == "z"] == ["wall"]
+
+
+def test_graded_false_and_no_surfaces_are_the_uniform_grid():
+    s = prepare_surface(box((0, 0, 0), (0.01, 0.01, 0.001)))
+    ref = plan_grid(s.bounds, f_max=6e9, eps_r_max=4.0)
+    for g in (plan_grid(s.bounds, f_max=6e9, eps_r_max=4.0, surfaces=[s], graded=False),
+              plan_grid(s.bounds, f_max=6e9, eps_r_max=4.0, surfaces=None)):
+        assert all(np.array_equal(a, b) for a, b in zip(g.axes, ref.axes)) and g.uniform
+
+
+def test_graded_dielectric_uses_its_own_permittivity():
+    """Across a dielectric block (eps_r 4) the spacing is at most c0/(f sqrt(4) n);
+    the air beside it keeps the air cell c0/(f n) (Taflove & Hagness 2005, sec. 4.6)."""
+    s = prepare_surface(box((0, 0, 0), (0.03, 0.03, 0.03)))
+    g = plan_grid(None, f_max=6e9, surfaces=[s], eps_r=[4.0], boundary_cells=4)
+    inside = C0 / (6e9 * 2 * 20)
+    for a, d in zip(g.axes, g.spacing):
+        centre = (a[:-1] + a[1:]) / 2
+        within = (centre > 0) & (centre < 0.03)
+        assert d[within].max() <= inside * (1 + 1e-9)
+        assert d.max() == pytest.approx(2 * inside, rel=1e-9)
+    # the block's faces are nodes
+    for a in g.axes:
+        assert np.min(np.abs(a - 0.0)) < 1e-15 and np.min(np.abs(a - 0.03)) < 1e-15
+
+
+@pytest.mark.parametrize("kw,match", [({"eps_r": [0.5]}, "eps_r"), ({"eps_r": [1, 2]}, "one of each"),
+                                      ({"min_feature": 0.0}, "min_feature"),
+                                      ({"min_feature": float("nan")}, "min_feature")])
+def test_plan_grid_graded_bad_input(kw, match):
+    s = prepare_surface(box((0, 0, 0), (0.01, 0.01, 0.001)))
+    with pytest.raises(RingprintError, match=match):
+        plan_grid(None, f_max=6e9, surfaces=[s], **kw)
+
+
+def test_memory_refusal_names_min_feature_on_graded_grids():
+    est = memory_estimate(*(np.arange(11) * 1e-3,) * 3)
+    with pytest.raises(RingprintError, match=r"raise \[grid\] min_feature"):
+        check_memory(est, available=10, graded=True)
+    with pytest.raises(RingprintError) as info:
+        check_memory(est, available=10)
+    assert "min_feature" not in str(info.value)

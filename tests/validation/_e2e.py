@@ -26,6 +26,8 @@ def write_stl(path, surface, scale=1.0) -> Path:
 
 
 def _value(v) -> str:
+    if isinstance(v, bool):
+        return "true" if v else "false"
     if isinstance(v, str) and not v.startswith("{"):
         return f'"{v}"'
     if isinstance(v, (list, tuple)):
@@ -41,8 +43,10 @@ def write_case(folder, name, parts, spectrum, grid=None, analysis=None, probe=No
     ``grid``, ``analysis``, ``probe`` are dicts of keys written as they are (strings
     quoted, numbers and lists as TOML). ``bands`` lists ``(name, low, high)`` custom
     bands (frequencies as text, e.g. "2.4 GHz"). A ``parts`` entry may carry a fourth
-    item, the part's priority.
+    item, the part's priority. The grid is uniform (``graded = false``) unless ``grid``
+    says otherwise: the tolerances of these checks were measured on uniform grids.
     """
+    grid = {"graded": False, **(grid or {})}
     lines = [f'title = "{name}"', 'units = "mm"', "", "[spectrum]"]
     lines += [f"{k} = {_value(v)}" for k, v in spectrum.items()]
     for part, file, material, *priority in parts:
