@@ -52,8 +52,12 @@ from ringprint.fdtd import EPS0
 
 #: Conductor solids thinner than this many cells also get their surface-cut edges.
 THIN_CELLS = 1.5
-#: Sub-rays per transverse axis used for interface averaging (odd: the middle one is the edge).
-SUBRAYS = 3
+#: Sub-rays per transverse axis used for interface averaging. Even, so that none lies
+#: on the centre of an edge's dual interval: the graded grid puts nodes on the parts'
+#: flat faces, and a sub-ray lying in such a face would count wholly inside or outside,
+#: giving the edges in the face a volume fraction of 1/3 or 2/3 instead of 1/2 with
+#: three sub-rays. (The exact fraction of the edge itself comes from its own line.)
+SUBRAYS = 4
 #: An edge counts as wholly inside conformal metal within this fraction of its length.
 CONFORMAL_TOL = 1e-6
 COMPONENTS = ("x", "y", "z")
@@ -238,6 +242,13 @@ def sheet_nodes(surface, grid: meshing.Grid) -> np.ndarray:
     return on
 
 
+def _edge_coords(grid: meshing.Grid, comp: str) -> tuple:
+    """Coordinates of the ``comp`` edges along x, y, z: cell centres along the edge,
+    nodes across it."""
+    a = COMPONENTS.index(comp)
+    return tuple(0.5 * (v[:-1] + v[1:]) if d == a else v for d, v in enumerate(grid.axes))
+
+
 def _edges_between(nodes: np.ndarray, comp: str) -> np.ndarray:
     """Edges of component ``comp`` whose two end nodes are both set."""
     a = COMPONENTS.index(comp)
@@ -247,7 +258,7 @@ def _edges_between(nodes: np.ndarray, comp: str) -> np.ndarray:
     return nodes[tuple(lo)] & nodes[tuple(hi)]
 
 
-def _dielectric_average(comp: str, dielectric):
+def _dielectric_average(comp: str, dielectric, coords=None):
     """Effective complex permittivity of the edges of ``comp`` near dielectric parts.
 
     ``dielectric`` lists ``(PartFill, complex eps_r)``. Returns ``(region, eps)``:
@@ -256,7 +267,8 @@ def _dielectric_average(comp: str, dielectric):
     Where one part alone meets air on an edge: ``eps_aa = w <1/eps>^-1 + (1 - w) <eps>``
     with the part's volume fraction ``f`` of the edge's dual cell (the mean over the
     sub-rays) in both means, the interface normal ``n`` from the gradient of ``f``
-    (central differences on the uniform edge lattice), and ``w = n_a^4``.
+    (central differences on the edge lattice, in metres so a graded grid's aspect does
+    not tilt it), and ``w = n_a^4``.
 
     Why ``n_a^4`` and not the ``n_a^2`` of the tensor of Farjadpour et al. (2006): the
     Yee update keeps only the diagonal of that tensor, and without its off-diagonal
@@ -293,7 +305,10 @@ def _dielectric_average(comp: str, dielectric):
     eps = np.mean(1.0 / inverse, axis=0)
     total = np.sum(volume, axis=0)
     for frac, (_f, eps_c) in zip(volume, dielectric):
-        grad = np.gradient(frac)
+        if coords is not None and min(frac.shape) >= 2:   # physical gradient: graded grids
+            grad = np.gradient(frac, *(c[l:h] for c, l, h in zip(coords, lo, hi)))
+        else:
+            grad = np.gradient(frac)
         g2 = grad[0] ** 2 + grad[1] ** 2 + grad[2] ** 2
         alone = (frac > 0) & (frac < 1) & (np.abs(total - frac) < 1e-6) & (g2 > 0)
         fa = frac[alone]
@@ -337,7 +352,7 @@ def assemble(case: Case, grid: meshing.Grid, parts: list[PartModel]):
             pec |= _edges_between(nodes, comp)
         eps = np.ones(shape, np.complex128)
         if dielectric:
-            region, eps_box = _dielectric_average(comp, dielectric)
+            region, eps_box = _dielectric_average(comp, dielectric, _edge_coords(grid, comp))
             eps[region] = eps_box
         eps_out.append(np.ascontiguousarray(eps.real))
         sig_out.append(np.ascontiguousarray(np.maximum(-eps.imag * omega0 * EPS0, 0.0)))

@@ -44,7 +44,9 @@ class PartFill:
         per sub-ray, the fraction of the edge's length inside the part. Sub-ray
         ``s = mb * n + mc`` sits at the centre of sub-interval ``mb`` (of n equal ones)
         of the edge's dual interval along the first transverse axis ``b`` and ``mc``
-        along ``c``, with (b, c) = (y, z) for Ex, (z, x) for Ey, (x, y) for Ez. For odd
+        along ``c``, with (b, c) = (y, z) for Ex, (z, x) for Ey, (x, y) for Ez. An even
+        n puts no sub-ray on the dual interval's centre (a part face on a grid plane,
+        as the graded planner puts it, then splits the sub-rays evenly). For odd
         n the middle sub-ray ``s = (n*n) // 2`` is the edge itself on a uniform grid.
         None for sheets.
     cuts : dict or None
@@ -170,8 +172,8 @@ def edge_fractions(surface, x, y, z, subrays=3):
     9(1):66-104, 1990.
     """
     axes = _check_axes(x, y, z)
-    if int(subrays) != subrays or subrays < 1 or subrays > 9 or subrays % 2 == 0:
-        raise RingprintError(f"subrays = {subrays!r} must be an odd integer from 1 to 9")
+    if int(subrays) != subrays or subrays < 1 or subrays > 9:
+        raise RingprintError(f"subrays = {subrays!r} must be an integer from 1 to 9")
     n = int(subrays)
     lo, hi = surface.bounds
     cells, nodes = _boxes(lo, hi, axes, surface.name)

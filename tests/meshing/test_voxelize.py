@@ -101,7 +101,8 @@ def test_overlap_later_part_wins():
         resolve_overlaps([a, b], shapes, priority=[1])
 
 
-@pytest.mark.parametrize("kw,match", [({"subrays": 2}, "odd"), ({"subrays": 11}, "odd")])
+@pytest.mark.parametrize("kw,match", [({"subrays": 0}, "1 to 9"), ({"subrays": 11}, "1 to 9"),
+                                      ({"subrays": 2.5}, "integer")])
 def test_bad_subrays(kw, match):
     with pytest.raises(RingprintError, match=match):
         voxelize(prepare_surface(box((0, 0, 0), (0.5, 0.5, 0.5))), X, X, X, **kw)
@@ -137,3 +138,19 @@ def test_shield_can_thinner_than_a_cell():
     assert all(fill.cuts[c].data.any() for c in "xyz")
     zplanes = {int(k) + fill.cuts["x"].offset[2] for k in np.argwhere(fill.cuts["x"].data)[:, 2]}
     assert {int(np.argmin(np.abs(g - 0.0))), int(np.argmin(np.abs(g - 0.003)))} <= zplanes
+
+
+def test_even_subrays_split_a_face_on_a_grid_plane_evenly():
+    """With 4 x 4 sub-rays none lies on the dual centre: a box face on the node plane
+    z = 0.5 gives the edges in that plane a volume fraction of exactly 1/2 (the share of
+    their dual cell below it), where 3 x 3 sub-rays give 1/3 or 2/3."""
+    grid = np.linspace(-0.25, 1.25, 13)     # node at z = 0.5
+    s = prepare_surface(box((0.1, 0.1, 0.0), (0.9, 0.9, 0.5)))
+    k = int(np.argmin(np.abs(grid - 0.5)))
+    for n, want in ((4, {0.5}), (3, {1 / 3, 2 / 3})):
+        fx = voxelize(s, grid, grid, grid, subrays=n).fractions["x"]
+        full = np.zeros((grid.size - 1, grid.size, grid.size))
+        full[fx.slices] = fx.data.mean(axis=0)
+        inner = full[4, 4:8, k]                # Ex edges well inside the face's outline
+        got = {round(float(v), 6) for v in inner}
+        assert got <= {round(w, 6) for w in want} and got, (n, inner)
