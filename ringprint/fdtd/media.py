@@ -5,7 +5,7 @@ from __future__ import annotations
 import numpy as np
 
 from ringprint.errors import RingprintError
-from ringprint.fdtd.conformal import MIN_FREE_LENGTH, MIN_STEP_FACTOR, ConformalFaces, conformal_faces
+from ringprint.fdtd.conformal import MIN_STEP_FACTOR, ConformalFaces, conformal_faces, short_edges
 from ringprint.fdtd.grid import E_COMPONENTS, EPS0, H_COMPONENTS, Grid
 
 #: Relative resolution used to quantize eps_r and sigma when the unique pairs
@@ -37,7 +37,8 @@ class Media:
         the fraction of every E edge (shaped like Ex, Ey, Ez) and of every H face
         (shaped like Hx, Hy, Hz) that lies outside the metal. Give both or neither.
         PEC edges count as wholly inside whatever ``free_length`` says, and so do edges
-        whose free fraction is below ``MIN_FREE_LENGTH`` (they become PEC).
+        that graze the metal (:func:`ringprint.fdtd.conformal.short_edges`; they become
+        PEC).
     min_step_factor : float
         Smallest time-step factor the cut faces may force (see
         :mod:`ringprint.fdtd.conformal`); faces needing less are closed as metal.
@@ -163,14 +164,16 @@ def _conformal(grid, free_length, free_area, masks, min_step_factor):
             if np.any(~np.isfinite(v)) or np.any(v < 0) or np.any(v > 1):
                 raise RingprintError(f"media {name}: fractions must lie in [0, 1]")
     lengths = [np.broadcast_to(v, sh).astype(np.float32) for v, sh in zip(lengths, e_shapes)]
-    out = []
+    areas = [np.broadcast_to(v, sh) for v, sh in zip(areas, h_shapes)]
     for v, m in zip(lengths, masks):
-        short = v < MIN_FREE_LENGTH
+        if m is not None:
+            v[np.broadcast_to(m, v.shape)] = 0.0
+    out = []
+    for v, short, m in zip(lengths, short_edges(grid, lengths, areas), masks):
         if m is not None:
             short |= np.broadcast_to(m, v.shape)
         v[short] = 0.0
         out.append(short)
-    areas = [np.broadcast_to(v, sh) for v, sh in zip(areas, h_shapes)]
     return conformal_faces(grid, lengths, areas, min_step_factor), out
 
 

@@ -25,16 +25,21 @@ def _full(grid, boxes, comps):
     return tuple(out)
 
 
-def cavity(radius, length, cells_per_radius, conformal=True, offset=(0.0, 0.0)):
+def cavity(radius, length, cells_per_radius, conformal=True, offset=(0.0, 0.0), caps=None):
     """``(grid, media)`` of the cavity; ``offset`` moves the axis off the grid lines
-    (in cells)."""
+    (in cells). With ``caps`` (a fraction of a cell) the end caps are metal too, that far
+    past a node plane, instead of the domain's PEC walls on grid planes."""
     h = radius / cells_per_radius
     n = int(np.ceil(radius / h)) + 2
     xs = h * (np.arange(-n, n + 1) - offset[0])
     ys = h * (np.arange(-n, n + 1) - offset[1])
-    z = np.linspace(0.0, length, int(round(length / h)) + 1)
+    if caps is None:
+        z = np.linspace(0.0, length, int(round(length / h)) + 1)
+        tube = primitives.cylinder(radius, length + 4 * h, centre=(0, 0, length / 2), n=256)
+    else:
+        z = h * (np.arange(-2, int(np.ceil(length / h)) + 3) + caps)
+        tube = primitives.cylinder(radius, length, centre=(0, 0, length / 2), n=256)
     grid = fdtd.Grid(xs, ys, z)
-    tube = primitives.cylinder(radius, length + 4 * h, centre=(0, 0, length / 2), n=256)
     lines, faces = conformal_fractions(tube.with_(kind="solid"), xs, ys, z)
     free_length, free_area = _full(grid, lines, E_COMPS), _full(grid, faces, H_COMPS)
     if not conformal:   # the unbiased staircase: PEC where the edge is at least half in metal
@@ -75,10 +80,10 @@ def ringdown(grid, media, source_at, pickup_at, f_ref, steps):
     return sorted((float(m.frequency_hz), float(np.abs(m.amplitude).max())) for m in modes)
 
 
-def tm010_frequency(grid, media, radius, f_ref, steps=5000):
+def tm010_frequency(grid, media, radius, f_ref, steps=5000, mid_z=None):
     """The ring-down frequency nearest ``f_ref`` of an Ez dipole inside the cavity."""
     from ringprint.analysis import harmonic_inversion
-    length = grid.z[-1]
+    length = 2 * mid_z if mid_z is not None else grid.z[-1]
     sim = fdtd.Simulation(grid, media, boundaries="pec", dtype=np.float64)
     sim.add_source(fdtd.DipoleSource((0.3 * radius, 0.1 * radius, length / 2), "Ez",
                                      fdtd.GaussianPulse(0.6 * f_ref, 1.4 * f_ref)))
