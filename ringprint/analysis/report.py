@@ -27,8 +27,10 @@ when absent, and ``"bands"`` -- the band list -- when absent)::
     "modes": list, one dict per resonance, numbered from 1 in order of frequency:
              "index": int (1, 2, ...),
              "frequency_hz": float > 0, the real part of the complex frequency / 2 pi,
-             "q": float > 0, Q = omega / (2 decay_rate),
-             "decay_rate_per_s": float >= 0, the amplitude decay rate (field ~ exp(-rate t)),
+             "q": float > 0, the mode's Q: the combined 1/q = 1/q_solver + 1/q_conductor
+                  when a conductor Q is known, else q_solver,
+             "decay_rate_per_s": float >= 0, the ring-down's amplitude decay rate (field ~
+                                 exp(-rate t)), so q_solver = omega / (2 decay_rate),
              "amplitude": float >= 0, the magnitude of the mode's complex amplitude
                           (its phase, if wanted, under an added key "phase_rad"),
              "error": float >= 0 or None, the relative error estimate of the
@@ -41,7 +43,12 @@ when absent, and ``"bands"`` -- the band list -- when absent)::
                         optional "overlap": float 0..1}, ...],
              "participation": {part name: fraction of the mode's energy in that
                                part and its shell, 0..1} (empty without fields),
-             optional: "q_over_chu": float (default q / q_chu), "confidence": str
+             optional: "q_solver": float > 0, the ring-down's Q (radiation and
+             dielectric loss), "q_conductor": float > 0 or None, the conductor Q from
+             the surface resistance of the lossy metal parts (None: perfect
+             conductors only, or no mode fields), "conductor_loss": {part: share of
+             the conductor loss, 0..1} (ringprint.analysis.conductor_loss),
+             "q_over_chu": float (default q / q_chu; the run gives q_solver / q_chu), "confidence": str
              (e.g. "high"/"low") or float, "phase_rad": float, any other scalar keys
              (they become extra CSV columns); with mode fields
              (ringprint.analysis.field_stage): "rings_in": part name or None,
@@ -281,7 +288,19 @@ def _modes_section(summary: Mapping) -> str:
              _participation_text(m)] + ([str(m.get("confidence", "-"))] if has_conf else [])
             for m in modes]
     numeric = [True] * 7 + [False, False] + ([False] if has_conf else [])
+    has_qc = any(m.get("q_conductor") is not None for m in modes)
+    if has_qc:
+        header[3:3] = ["Q solver", "Q conductor"]
+        numeric[3:3] = [True, True]
+        for r, m in zip(rows, modes):
+            r[3:3] = [format_q(m.get("q_solver", m["q"])), format_q(m.get("q_conductor"))]
     out.append(_table("modes", header, rows, numeric))
+    if has_qc:
+        out.append('<p class="muted" id="q-note">Q combines the losses, 1/Q = 1/Q solver + '
+                   "1/Q conductor: Q solver is the ring-down's (radiation and dielectric loss), "
+                   "Q conductor the loss of the metal parts' surface resistance on the mode's "
+                   "surface current. The decay rate is the ring-down's and Q / Q_Chu uses Q solver: "
+                   "the Chu limit bounds radiation, and conductor loss may take Q below it.</p>")
     out.append('<p class="muted">Q / Q_Chu compares the Q with the Chu limit of the smallest '
                "sphere around the part(s) that ring; near 1 means the part radiates about as "
                "well as anything of its size can. Error: estimated relative error of the "
