@@ -15,7 +15,7 @@ of :class:`~ringprint.analysis.fieldset.FieldSet` are normalized to ``W = 1 J``;
 is recomputed here from the lattice with :meth:`FieldSet.node_volumes`, so the
 ratio stays consistent whatever the normalization. References: Pozar 2012, sec. 6.1
 and 6.3 (Q of a cavity from the wall loss of the lossless field, the perturbation
-method); Harrington 1961, sec. 2-8 (surface impedance).
+method); Harrington 1961, ch. 2 (surface impedance; chapter from memory).
 
 Rules (measured in tests/validation/test_conductor_q.py):
 
@@ -247,7 +247,7 @@ def surface_h(fs: FieldSet, points, normals, h_fields, samples: int = SAMPLES):
         s = np.stack([np.einsum("ca,ca->c", c - p, n) for _, _, c, _ in stencils], axis=1)
         ok = np.stack([o for *_, o in stencils], axis=1)
         lag = _extrapolation_weights(s, ok, step)
-        sampled[lo:lo + CHUNK] = lag.any(axis=1) if samples else False
+        sampled[lo:lo + CHUNK] = lag.any(axis=1)
         for m, hf in enumerate(flats):
             h0 = np.zeros((len(p), 3), complex)
             for k, (flat, w, _, _) in enumerate(stencils):
@@ -287,8 +287,10 @@ def mode_losses(fs: FieldSet, conductors, stored_energy=None, samples: int = SAM
     ----------
     Pozar, D. M., Microwave Engineering, 4th ed., Wiley, 2012, sec. 6.1, 6.3 (Q from the
     wall loss of the lossless field); Harrington, R. F., Time-Harmonic Electromagnetic
-    Fields, McGraw-Hill, 1961, sec. 2-8 (surface impedance).
+    Fields, McGraw-Hill, 1961, ch. 2 (surface impedance; chapter from memory).
     """
+    if not (isinstance(samples, int) and samples >= 1):
+        raise RingprintError(f"samples must be an integer >= 1, got {samples!r}")
     if not fs.modes:
         return []
     if stored_energy is None:

@@ -9,8 +9,8 @@ below any grid cell, so the field stops at the surface. A conductor with a finit
 bulk conductivity ``sigma`` (and an effective RF permeability ``mu_r`` of its surface
 layer, 1 unless stated) then adds its loss afterwards by perturbation: its surface
 resistance ``Rs = sqrt(omega mu0 mu_r / (2 sigma))`` (:func:`surface_resistance`;
-Harrington 1961, sec. 2-8) dissipates ``Rs/2 |H_t|^2`` per unit area of the mode's
-surface field (:mod:`ringprint.analysis.conductor_loss`). ``pec`` (no sigma) is the
+Harrington 1961, ch. 2, from memory) dissipates ``Rs/2 |H_t|^2`` per unit area of
+the mode's surface field (:mod:`ringprint.analysis.conductor_loss`). ``pec`` (no sigma) is the
 lossless ideal. The model holds while the skin depth
 ``delta = sqrt(2 / (omega mu0 mu_r sigma))`` (:func:`skin_depth`) is small against
 the metal's thickness and its radii of curvature; a plating must be a few skin
@@ -216,7 +216,7 @@ def surface_resistance(frequency_hz, sigma, mu_r=1.0):
     References
     ----------
     Harrington, R. F., *Time-Harmonic Electromagnetic Fields*, McGraw-Hill, 1961,
-    sec. 2-8 (surface impedance); Pozar, D. M., *Microwave Engineering*, 4th ed.,
+    ch. 2 (surface impedance; chapter from memory); Pozar, D. M., *Microwave Engineering*, 4th ed.,
     Wiley, 2012, sec. 1.7 (surface resistance of a good conductor; section from memory).
     """
     omega = 2 * np.pi * _positive_array(frequency_hz, "frequency_hz")

@@ -1,7 +1,7 @@
 """Tests of the conductor-loss perturbation (ringprint.analysis.conductor_loss).
 
 References: Harrington, R. F., *Time-Harmonic Electromagnetic Fields*, McGraw-Hill,
-1961, sec. 2-8 (surface impedance, ``Rs = sqrt(omega mu / (2 sigma)) = 1 / (sigma
+1961, ch. 2 (chapter from memory; surface impedance, ``Rs = sqrt(omega mu / (2 sigma)) = 1 / (sigma
 delta)``); Pozar, D. M., *Microwave Engineering*, 4th ed., Wiley, 2012, sec. 6.1 (the
 power lost in a wall, ``P = Rs/2 Int |H_t|^2 dS``, and ``Q = omega W / P``; losses add
 as ``1/Q``). Fields here are constructed so the surface integral is known exactly.
@@ -55,8 +55,8 @@ def _square(z, lo=5 * H, hi=15 * H, up=True):
 
 
 def test_surface_resistance_is_one_over_sigma_delta():
-    """Rs = sqrt(omega mu / (2 sigma)) = 1 / (sigma delta) (Harrington 1961, sec. 2-8);
-    copper (5.813e7 S/m) at 10 GHz: Rs = 0.026 ohm, delta = 0.66 um (Pozar 2012,
+    """Rs = sqrt(omega mu / (2 sigma)) = 1 / (sigma delta) (Harrington 1961, ch. 2, from
+    memory); copper (5.813e7 S/m) at 10 GHz: Rs = 0.026 ohm, delta = 0.66 um (Pozar 2012,
     sec. 1.7, values from memory; recomputed here from the closed form)."""
     f = np.array([1e8, 1e9, 1e10])
     rs = surface_resistance(f, 5.813e7)
@@ -65,7 +65,8 @@ def test_surface_resistance_is_one_over_sigma_delta():
     assert rs[2] == pytest.approx(0.026, abs=5e-4)
     assert skin_depth(1e10, 5.813e7) == pytest.approx(0.66e-6, abs=0.01e-6)
     # Rs grows as sqrt(mu_r) and sqrt(f)
-    assert surface_resistance(1e9, 1e7, mu_r=4.0) == pytest.approx(2 * surface_resistance(1e9, 1e7), rel=1e-14)
+    assert surface_resistance(1e9, 1e7, mu_r=4.0) == pytest.approx(2 * surface_resistance(1e9, 1e7),
+                                                                   rel=1e-14)
     assert get_material("copper").surface_resistance(4e9) == pytest.approx(
         2 * get_material("copper").surface_resistance(1e9), rel=1e-14)
     assert get_material("pec").surface_resistance(1e9) == 0.0
@@ -192,6 +193,13 @@ def test_combined_q_adds_the_losses(q_s, q_c):
     q = cl.combined_q(q_s, q_c)
     assert 1 / q == pytest.approx(1 / q_s + 1 / q_c, rel=1e-12)
     assert q <= min(q_s, q_c) * (1 + 1e-12)
+
+
+def test_samples_must_be_a_positive_integer():
+    fs = _lattice([1.0, 0.0, 0.0])
+    c = cl.ConductorSurface("block", SIGMA, _square(7 * H), np.zeros(2, bool))
+    with pytest.raises(RingprintError, match="samples must be an integer >= 1"):
+        cl.mode_losses(fs, [c], samples=0)
 
 
 def test_combined_q_edge_cases():

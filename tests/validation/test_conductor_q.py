@@ -14,7 +14,7 @@ has ``E_z = E0 J0(x01 r / a)``, ``H_phi = -i E0 / eta J1(x01 r / a)``, stored en
 
     Q_c = eta x01 d / (2 Rs (a + d)),   x01 = 2.4048 (scipy.special.jn_zeros).
 
-Rs = sqrt(omega mu0 / (2 sigma)) (Harrington 1961, sec. 2-8), copper 5.8e7 S/m.
+Rs = sqrt(omega mu0 / (2 sigma)) (Harrington 1961, ch. 2, from memory), copper 5.8e7 S/m.
 """
 
 from __future__ import annotations
