@@ -212,7 +212,8 @@ def test_tm010_copper_can_end_to_end(tmp_path):
 
     Checked: q_solver against the dielectric Q within 10 % (the fill's edges next to
     the metal are averaged with air, which lowers its loss: measured +7.1 %); Q_c
-    against the closed form within 12 %; q is exactly the combined Q.
+    against the closed form within 12 %; q is exactly the combined Q; without the
+    mode fields q stays the ring-down's and the run notes that Q_c is missing.
 
     Why 12 %: the curved wall and the caps are staircased (14 cells per radius, walls
     1.4 cells thick, placed through the nodes they pass), so the wall the solver sees
@@ -240,6 +241,12 @@ def test_tm010_copper_can_end_to_end(tmp_path):
                            probe={"at": [5.0, 0.0, -1.5], "normal": "y", "size": 1.0})
     summary = _e2e.run(case, fields=True)
     m = _e2e.nearest_mode(summary, f010)
+    # without the fields: the ring-down's Q, no conductor Q, and the run says why
+    without = _e2e.run(case, out_name="no_fields", fields=False)
+    bare = _e2e.nearest_mode(without, f010)
+    assert bare["q"] == bare["q_solver"] == m["q_solver"] and bare["q_conductor"] is None
+    assert any("conductor Q not computed" in n and "can" in n for n in without["notes"])
+    assert not any("conductor Q not computed" in n for n in summary["notes"])
     assert m["frequency_hz"] == pytest.approx(f010, rel=0.02)
     assert m["q_solver"] == pytest.approx(100 * m["frequency_hz"] / f010, rel=0.1)
     rs = math.sqrt(math.pi * m["frequency_hz"] * mu_0 / COPPER)
