@@ -342,7 +342,10 @@ def attach_losses(modes, losses, fs: FieldSet | None = None) -> None:
 
     Entries gain ``q_solver``, ``q_conductor`` (None when nothing dissipates) and
     ``conductor_loss`` ({part: share of the conductor loss}); the matching field of
-    ``fs`` takes the combined Q too (fields.h5, pictures).
+    ``fs`` takes the combined Q too (fields.h5, pictures). An absolute ``q_uncertainty``
+    of the ring-down's Q, when the entry has one, is carried to the combined Q
+    (``dQ = (Q / Q_solver)^2 dQ_solver``, from ``1/Q = 1/Q_solver + 1/Q_c``; the
+    conductor Q's own error is not in it), and a ``q_extrapolated`` is combined too.
     """
     mark_without_losses(modes)
     by_index = {loss.index: loss for loss in losses}
@@ -354,6 +357,10 @@ def attach_losses(modes, losses, fs: FieldSet | None = None) -> None:
         m["q_conductor"] = float(loss.q_conductor)
         m["conductor_loss"] = {n: float(v) for n, v in loss.share.items()}
         m["q"] = combined_q(m["q_solver"], loss.q_conductor)
+        if m.get("q_uncertainty") is not None:
+            m["q_uncertainty"] = float(m["q_uncertainty"]) * (m["q"] / m["q_solver"]) ** 2
+        if m.get("q_extrapolated") is not None:
+            m["q_extrapolated"] = combined_q(m["q_extrapolated"], loss.q_conductor)
         if m["index"] in fields:
             fields[m["index"]].q = m["q"]
 

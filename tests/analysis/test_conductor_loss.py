@@ -237,6 +237,17 @@ def test_attach_makes_q_the_combined_q_and_the_bands_see_it():
     assert [(h["mode"], h["status"]) for h in hazards] == [(1, "near")]
 
 
+def test_uncertainty_of_the_ring_down_q_is_carried_to_the_combined_q():
+    """1/Q = 1/Q_s + 1/Q_c with Q_c exact: dQ = (Q/Q_s)^2 dQ_s (first-order propagation),
+    checked against the combined Q of Q_s +- dQ_s."""
+    modes = _modes()[:1]
+    modes[0].update(q_uncertainty=10.0, q_extrapolated=990.0)
+    cl.attach_losses(modes, [cl.ModeLoss(1, 150.0, {}, {"frame": 1.0}, {})])
+    numeric = (cl.combined_q(1010.0, 150.0) - cl.combined_q(990.0, 150.0)) / 2
+    assert modes[0]["q_uncertainty"] == pytest.approx(numeric, rel=1e-3)
+    assert modes[0]["q_extrapolated"] == pytest.approx(cl.combined_q(990.0, 150.0), rel=1e-15)
+
+
 def test_outputs_show_both_qs():
     """modes.csv carries q_solver and q_conductor after q and the loss shares; the terminal
     table and the report's mode table show both Q's once a conductor Q is known."""
