@@ -38,6 +38,8 @@ def _material(part: Part):
     out: dict = {"name": m.name}
     if m.is_conductor:
         out.update(conductor=True, sigma=m.sigma)
+        if m.mu_r != 1.0:
+            out["mu_r"] = m.mu_r
         return out
     out["eps_r"] = m.eps_r
     if m.sigma is not None:

@@ -18,7 +18,9 @@ unit such as ``"2.4 GHz"``)::
     material = "pc-abs"                 # a library name, or a table:
     # material = { eps_r = 3.0, loss_tangent = 0.01 }   (+ optional name, at = "1 GHz")
     # material = { eps_r = 3.0, sigma = 0.002 }         conductivity in S/m instead
-    # material = { conductor = true, sigma = 5.8e7 }    a metal (perfect conductor today)
+    # material = { conductor = true, sigma = 5.8e7 }    a metal with conductor loss (S/m,
+    #                                   > 0; + optional mu_r of its surface layer, default 1);
+    # material = { conductor = true }   or "pec": the lossless perfect conductor
     translate = [0, 0, 0]               # optional, default no move
     rotate = { axis = [0, 0, 1], degrees = 0 }          # optional, about the origin
     scale = 1.0                         # optional
@@ -382,7 +384,7 @@ def _assembly(ck: Checker, table, here: tuple, folder: Path, unit: float, seen: 
     return parts
 
 
-MATERIAL_KEYS = ("name", "eps_r", "loss_tangent", "sigma", "conductor", "at")
+MATERIAL_KEYS = ("name", "eps_r", "loss_tangent", "sigma", "conductor", "at", "mu_r")
 
 
 def _material(ck: Checker, value, here: tuple) -> tuple[Material, str | None]:
@@ -394,7 +396,14 @@ def _material(ck: Checker, value, here: tuple) -> tuple[Material, str | None]:
                     "{ eps_r = ..., loss_tangent = ... }")
         table = ck.table(value, here, MATERIAL_KEYS)
         conductor = ck.boolean(table.get("conductor", False), here + ("conductor",))
-        lowest = {"eps_r": 1.0, "loss_tangent": 0.0, "sigma": 0.0}
+        if conductor and "sigma" in table:
+            ck.number(table["sigma"], here + ("sigma",), low=0.0, low_open=True,
+                      hint='a conductor\'s sigma is its conductivity in S/m; leave sigma out '
+                      '(or use material = "pec") for the lossless perfect conductor')
+        if "mu_r" in table and not conductor:
+            ck.fail(here + ("mu_r",), "mu_r is for conductors only (set conductor = true) "
+                    "or remove it")
+        lowest = {"eps_r": 1.0, "loss_tangent": 0.0, "sigma": 0.0, "mu_r": 1.0}
         values = {key: ck.number(table[key], here + (key,), low=low)
                   for key, low in lowest.items() if key in table}
         at = ck.frequency(table["at"], here + ("at",)) if "at" in table else None

@@ -1,7 +1,9 @@
 """The field stage of ``ringprint run``: mode fields, which part rings, touch maps, files.
 
 After the modes are known: :func:`ringprint.analysis.mode_fields.compute_fields`
-(second pass), :func:`ringprint.analysis.participation.participation` per mode
+(second pass), the conductor loss of :mod:`ringprint.analysis.conductor_loss` (``q``
+becomes the combined Q and the bands are judged again, before anything else uses Q),
+:func:`ringprint.analysis.participation.participation` per mode
 (into modes.json: ``participation``, ``participation_detail``, ``rings_in``; the
 hazard entries gain ``part``), the touch maps of :mod:`ringprint.analysis.touch`
 (modes.json ``touch``: the worst spots), then ``fields.h5`` and one VTK file per
@@ -16,11 +18,13 @@ from __future__ import annotations
 
 import logging
 
+from ringprint.analysis import conductor_loss as cl
 from ringprint.analysis import lattice as lt
 from ringprint.analysis import touch
 from ringprint.analysis.fieldset_io import (FIELDS_NAME, IMAGE_SUFFIX, RECTILINEAR_SUFFIX,
                                             write_fieldset, write_mode_files)
 from ringprint.analysis.mode_fields import compute_fields
+from ringprint.analysis.modes import judge_modes
 from ringprint.analysis.participation import Regions, participation
 from ringprint.errors import RingprintError
 
@@ -66,6 +70,10 @@ def run_field_stage(model, probe, ring, modes, hazards, out_dir, notes, progress
     fs = compute_fields(model, probe, ring, modes, lat, progress=progress, notes=notes)
     log.info("mode fields on every %d grid node(s): %s points", fs.decimation,
              "x".join(str(n) for n in fs.shape))
+    losses = cl.mode_losses(fs, cl.conductor_surfaces(model))
+    cl.attach_losses(modes, losses, fs)
+    notes += cl.coverage_notes(losses)
+    hazards[:] = judge_modes(modes, list(model.case.bands), model.case.analysis.detuning_margin)
     regions = Regions(fs)
     for m, mf in zip(modes, fs.modes):
         p = participation(fs, mf, regions)

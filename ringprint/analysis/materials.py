@@ -3,11 +3,18 @@
 A :class:`Material` is either a dielectric (relative permittivity plus a loss given
 as a loss tangent at a stated frequency, or as a conductivity) or a conductor.
 
-Conductors are treated as perfect electric conductors today; the bulk conductivity of
-the finite metals in the library (copper, aluminium, stainless steel) is kept in
-``Material.sigma`` for a later surface-impedance model. A resonance of a metal part
-therefore shows its radiation Q (plus any dielectric loss), an upper bound on the Q
-that will be measured.
+Conductors. The solver treats every conductor as a perfect electric conductor: at
+radio frequencies the skin depth of a metal (about 2 um for copper at 1 GHz) is far
+below any grid cell, so the field stops at the surface. A conductor with a finite
+bulk conductivity ``sigma`` (and an effective RF permeability ``mu_r`` of its surface
+layer, 1 unless stated) then adds its loss afterwards by perturbation: its surface
+resistance ``Rs = sqrt(omega mu0 mu_r / (2 sigma))`` (:func:`surface_resistance`;
+Harrington 1961, ch. 2, from memory) dissipates ``Rs/2 |H_t|^2`` per unit area of
+the mode's surface field (:mod:`ringprint.analysis.conductor_loss`). ``pec`` (no sigma) is the
+lossless ideal. The model holds while the skin depth
+``delta = sqrt(2 / (omega mu0 mu_r sigma))`` (:func:`skin_depth`) is small against
+the metal's thickness and its radii of curvature; a plating must be a few skin
+depths thick to carry the current alone.
 
 The FDTD update uses a frequency-independent conductivity. A loss tangent
 ``tan_d`` is turned into ``sigma = 2 pi f_c eps0 eps_r tan_d`` at one frequency
@@ -30,13 +37,14 @@ from importlib import resources
 from types import MappingProxyType
 
 import numpy as np
-from scipy.constants import epsilon_0
+from scipy.constants import epsilon_0, mu_0
 
 from ringprint.analysis._units import parse_frequency
 from ringprint.errors import RingprintError
 
 __all__ = ["Material", "library", "get_material", "loss_tangent_to_sigma",
-           "sigma_to_loss_tangent", "dielectric_q", "conversion_frequency"]
+           "sigma_to_loss_tangent", "dielectric_q", "conversion_frequency",
+           "surface_resistance", "skin_depth"]
 
 
 def _check(ok: bool, message: str) -> None:
@@ -65,19 +73,25 @@ class Material:
         Dielectric loss tangent at ``frequency_hz`` (dielectrics only).
     sigma : float or None
         Conductivity in S/m. For a dielectric: a frequency-independent conductivity
-        given instead of a loss tangent. For a conductor: its bulk conductivity, or
-        None for a perfect conductor.
+        given instead of a loss tangent. For a conductor: its bulk conductivity
+        (> 0), whose surface resistance gives the conductor loss, or None for the
+        lossless perfect conductor.
     frequency_hz : float or None
         The frequency at which ``eps_r`` and ``loss_tangent`` were stated.
     is_conductor : bool
-        True for metals; they are treated as perfect conductors today.
+        True for metals; the solver treats them as perfect conductors and a finite
+        ``sigma`` adds the surface loss afterwards (module docstring).
     source : str
         Where the values come from.
+    mu_r : float
+        Effective relative permeability of a conductor's surface layer at RF (>= 1;
+        it raises the surface resistance as ``sqrt(mu_r)``). Dielectrics take 1.
 
     Raises
     ------
     RingprintError
-        For values out of range, or a dielectric given both a loss tangent and sigma.
+        For values out of range, a dielectric given both a loss tangent and sigma,
+        or a conductor with sigma <= 0.
     """
 
     name: str
@@ -87,6 +101,7 @@ class Material:
     frequency_hz: float | None = None
     is_conductor: bool = False
     source: str = ""
+    mu_r: float = 1.0
 
     def __post_init__(self):
         _check(isinstance(self.name, str) and self.name.strip() != "",
@@ -105,17 +120,37 @@ class Material:
             f = _nonneg(self.frequency_hz, f"{label}: frequency")
             _check(f > 0, f"{label}: the frequency its values hold at must be > 0")
             object.__setattr__(self, "frequency_hz", f)
+        _check(isinstance(self.mu_r, (int, float)) and not isinstance(self.mu_r, bool)
+               and math.isfinite(self.mu_r) and self.mu_r >= 1.0,
+               f"{label}: mu_r must be a finite number >= 1, got {self.mu_r!r}")
+        object.__setattr__(self, "mu_r", float(self.mu_r))
         if self.is_conductor:
             _check(self.loss_tangent is None and self.eps_r == 1.0,
                    f"{label}: a conductor takes no eps_r or loss_tangent; remove them")
+            _check(self.sigma is None or self.sigma > 0,
+                   f"{label}: a conductor's sigma must be > 0 S/m, got {self.sigma!r}; "
+                   'leave sigma out (or use material = "pec") for the lossless ideal')
         else:
             _check(self.loss_tangent is None or self.sigma is None,
                    f"{label}: give either loss_tangent or sigma, not both")
+            _check(self.mu_r == 1.0, f"{label}: mu_r is for conductors only; remove it")
 
     @property
     def is_pec(self) -> bool:
-        """True when the solver treats the material as a perfect conductor (all conductors today)."""
+        """True when the solver treats the material as a perfect conductor (every conductor)."""
         return self.is_conductor
+
+    @property
+    def is_lossy_conductor(self) -> bool:
+        """True for a conductor with a finite conductivity (it has a conductor loss)."""
+        return self.is_conductor and self.sigma is not None
+
+    def surface_resistance(self, frequency_hz):
+        """Surface resistance (ohm) at ``frequency_hz``: :func:`surface_resistance` of a
+        lossy conductor, 0 for the perfect conductor and for dielectrics."""
+        if not self.is_lossy_conductor:
+            return np.zeros_like(np.asarray(frequency_hz, dtype=float))[()]
+        return surface_resistance(frequency_hz, self.sigma, self.mu_r)
 
     def conductivity(self, frequency_hz: float) -> float:
         """The frequency-independent conductivity (S/m) the solver uses.
@@ -171,6 +206,32 @@ def dielectric_q(sigma, eps_r, frequency_hz):
         return 1.0 / sigma_to_loss_tangent(sigma, eps_r, frequency_hz)
 
 
+def surface_resistance(frequency_hz, sigma, mu_r=1.0):
+    """Surface resistance of a good conductor, ``Rs = sqrt(omega mu0 mu_r / (2 sigma))`` (ohm).
+
+    The real part of the surface impedance ``(1 - i) Rs`` (``exp(-i w t)`` convention)
+    of a conductor much thicker than its skin depth, ``Rs = 1 / (sigma delta)``.
+    Vectorized over all arguments.
+
+    References
+    ----------
+    Harrington, R. F., *Time-Harmonic Electromagnetic Fields*, McGraw-Hill, 1961,
+    ch. 2 (surface impedance; chapter from memory); Pozar, D. M., *Microwave Engineering*, 4th ed.,
+    Wiley, 2012, sec. 1.7 (surface resistance of a good conductor; section from memory).
+    """
+    omega = 2 * np.pi * _positive_array(frequency_hz, "frequency_hz")
+    return np.sqrt(omega * mu_0 * _positive_array(mu_r, "mu_r")
+                   / (2 * _positive_array(sigma, "sigma")))
+
+
+def skin_depth(frequency_hz, sigma, mu_r=1.0):
+    """Skin depth ``delta = sqrt(2 / (omega mu0 mu_r sigma))`` (m); Pozar (2012), sec. 1.4
+    (plane waves in a good conductor; section from memory)."""
+    omega = 2 * np.pi * _positive_array(frequency_hz, "frequency_hz")
+    return np.sqrt(2 / (omega * mu_0 * _positive_array(mu_r, "mu_r")
+                        * _positive_array(sigma, "sigma")))
+
+
 def conversion_frequency(f_min: float, f_max: float) -> float:
     """Default frequency for the loss-tangent conversion: ``sqrt(f_min f_max)``."""
     _check(0 < f_min < f_max and math.isfinite(f_max), "need 0 < f_min < f_max")
@@ -188,6 +249,7 @@ def _entry(name: str, table: dict) -> Material:
         frequency_hz=parse_frequency(at) if at is not None else None,
         is_conductor=conductor,
         source=table.get("source", "") + (" (from memory)" if table.get("from_memory") else ""),
+        mu_r=table.get("mu_r", 1.0),
     )
 
 

@@ -27,7 +27,11 @@ Rules (the report cites them):
   Q = 0.866 against a bound of 2.69 for its own sphere; Stratton 1941). So
   ``below_chu`` states the comparison for every mode, and a mode with
   ``Q >= CHU_Q_MIN`` below the bound gets a note: there it signals a numerical
-  problem, or a mode that is not a resonance of the parts.
+  problem, or a mode that is not a resonance of the parts. The comparison uses the
+  ring-down's Q (``q_solver``): conductor loss may rightly take a Q below the bound.
+- **Bands**: :func:`judge_modes` judges each mode by its ``q``; the run judges again
+  once the conductor loss has made ``q`` the combined Q
+  (:mod:`ringprint.analysis.conductor_loss`).
 """
 
 from __future__ import annotations
@@ -96,8 +100,6 @@ def mode_table(res, rows, probe_row: int, radius_m: float, bands, margin: float)
     f = np.array([r.frequency_hz for r in res])
     q = np.array([r.q for r in res])
     q_chu = np.asarray(chu_q(f, radius_m)) if radius_m > 0 else np.full(f.shape, np.nan)
-    verdict = judge(f, q, [b.low_hz for b in bands], [b.high_hz for b in bands], margin) \
-        if bands else None
     modes = []
     for k, r in enumerate(res):
         vis = float(np.max(rel[k]))
@@ -118,16 +120,26 @@ def mode_table(res, rows, probe_row: int, radius_m: float, bands, margin: float)
             "bands": [],
             "participation": {},
         }
-        if verdict is not None:
-            entry["bands"] = [{"band": b.name, "status": STATUS_NAMES[verdict.status[k, j]],
-                               "distance_percent": float(verdict.distance_percent[k, j]),
-                               "overlap": float(verdict.overlap[k, j])}
-                              for j, b in enumerate(bands)]
         modes.append(entry)
+    return modes, judge_modes(modes, bands, margin)
+
+
+def judge_modes(modes, bands, margin: float) -> list:
+    """Judge every mode entry against the bands by its current ``q`` (fills each entry's
+    ``bands``) and return the ranked hazards; run again once the final Q is known."""
+    if not modes or not bands:
+        return []
+    f = np.array([m["frequency_hz"] for m in modes])
+    q = np.array([m["q"] for m in modes])
+    verdict = judge(f, q, [b.low_hz for b in bands], [b.high_hz for b in bands], margin)
+    for k, entry in enumerate(modes):
+        entry["bands"] = [{"band": b.name, "status": STATUS_NAMES[verdict.status[k, j]],
+                           "distance_percent": float(verdict.distance_percent[k, j]),
+                           "overlap": float(verdict.overlap[k, j])}
+                          for j, b in enumerate(bands)]
     hazards = []
-    if verdict is not None:
-        for rank, (m, j) in enumerate(rank_hazards(verdict), start=1):
-            hazards.append({"mode": int(m) + 1, "band": bands[j].name,
-                            "status": STATUS_NAMES[verdict.status[m, j]],
-                            "distance_percent": float(verdict.distance_percent[m, j]), "rank": rank})
-    return modes, hazards
+    for rank, (m, j) in enumerate(rank_hazards(verdict), start=1):
+        hazards.append({"mode": int(m) + 1, "band": bands[j].name,
+                        "status": STATUS_NAMES[verdict.status[m, j]],
+                        "distance_percent": float(verdict.distance_percent[m, j]), "rank": rank})
+    return hazards

@@ -24,6 +24,7 @@ from ringprint import __version__
 from ringprint.analysis import placement, ringdown
 from ringprint.analysis.bounds import enclosing_sphere
 from ringprint.analysis.case import load_case
+from ringprint.analysis.conductor_loss import mark_without_losses, no_fields_note
 from ringprint.analysis.field_stage import check_budget, field_section, remove_stale, run_field_stage
 from ringprint.analysis.grid_study import CoarseRun, annotate
 from ringprint.analysis.model import build_model
@@ -193,10 +194,13 @@ def run_case(case_path, out_dir=None, resume: bool = False, progress: bool | Non
                       for u in uncertainty["grid_study"]["unmatched"]]
         fs = None
         remove_stale(out)
+        mark_without_losses(modes)
         if fields:
             fs = run_field_stage(model, probe, ring, modes, hazards, out, notes,
                                  progress=lambda s, n: bar.at(0.5 + 0.4 * s / n, "fields"))
-        notes += [f"mode {m['index']}: Q {q_text(m)} is below the Chu bound {m['q_chu']:.3g}; "
+        notes += no_fields_note(model, fs)
+        notes += [f"mode {m['index']}: Q {m['q_solver']:.3g} (ring-down) is below the Chu bound "
+                  f"{m['q_chu']:.3g}; "
                   "treat it as suspect" for m in modes if m["below_chu"] and m["chu_applies"]]
         summary = {
             "results_layout": RESULTS_LAYOUT,

@@ -27,8 +27,10 @@ when absent, and ``"bands"`` -- the band list -- when absent)::
     "modes": list, one dict per resonance, numbered from 1 in order of frequency:
              "index": int (1, 2, ...),
              "frequency_hz": float > 0, the real part of the complex frequency / 2 pi,
-             "q": float > 0, Q = omega / (2 decay_rate),
-             "decay_rate_per_s": float >= 0, the amplitude decay rate (field ~ exp(-rate t)),
+             "q": float > 0, the mode's Q: the combined 1/q = 1/q_solver + 1/q_conductor
+                  when a conductor Q is known, else q_solver,
+             "decay_rate_per_s": float >= 0, the ring-down's amplitude decay rate (field ~
+                                 exp(-rate t)), so q_solver = omega / (2 decay_rate),
              "amplitude": float >= 0, the magnitude of the mode's complex amplitude
                           (its phase, if wanted, under an added key "phase_rad"),
              "error": float >= 0 or None, the relative error estimate of the
@@ -42,7 +44,12 @@ when absent, and ``"bands"`` -- the band list -- when absent)::
                         optional "overlap": float 0..1}, ...],
              "participation": {part name: fraction of the mode's energy in that
                                part and its shell, 0..1} (empty without fields),
-             optional: "q_over_chu": float (default q / q_chu), "confidence": str
+             optional: "q_solver": float > 0, the ring-down's Q (radiation and
+             dielectric loss), "q_conductor": float > 0 or None, the conductor Q from
+             the surface resistance of the lossy metal parts (None: perfect
+             conductors only, or no mode fields), "conductor_loss": {part: share of
+             the conductor loss, 0..1} (ringprint.analysis.conductor_loss),
+                          "q_over_chu": float (default q / q_chu; the run gives q_solver / q_chu), "confidence": str
              (e.g. "high"/"low") or float, "phase_rad": float; the uncertainty
              (ringprint.analysis.uncertainty; tables print f and Q to the digits it
              supports): "fit_error", "frequency_uncertainty_hz", "q_uncertainty"
@@ -106,7 +113,7 @@ from ringprint.analysis.results import (basis_text, format_summary_table, freque
                                         validate_bands, validate_summary, write_csv, write_json)
 from ringprint.analysis.textformat import (format_bytes, format_duration, format_error,
                                            format_frequency, format_number, format_percent,
-                                           format_sci, format_si)
+                                           format_q, format_sci, format_si)
 
 __all__ = ["write_results", "write_report_html", "build_report_html", "SAFETY_NOTE",
            "write_json", "write_csv", "write_spectrum_png", "write_run_log",
@@ -291,7 +298,19 @@ def _modes_section(summary: Mapping) -> str:
              _bands_text(m), _participation_text(m)]
             + ([str(m.get("confidence", "-"))] if has_conf else []) for m in modes]
     numeric = [True] * 6 + [False, False, False] + ([False] if has_conf else [])
+    has_qc = any(m.get("q_conductor") is not None for m in modes)
+    if has_qc:
+        header[3:3] = ["Q solver", "Q conductor"]
+        numeric[3:3] = [True, True]
+        for r, m in zip(rows, modes):
+            r[3:3] = [format_q(m.get("q_solver", m["q"])), format_q(m.get("q_conductor"))]
     out.append(_table("modes", header, rows, numeric))
+    if has_qc:
+        out.append('<p class="muted" id="q-note">Q combines the losses, 1/Q = 1/Q solver + '
+                   "1/Q conductor: Q solver is the ring-down's (radiation and dielectric loss), "
+                   "Q conductor the loss of the metal parts' surface resistance on the mode's "
+                   "surface current. The decay rate is the ring-down's and Q / Q_Chu uses Q solver: "
+                   "the Chu limit bounds radiation, and conductor loss may take Q below it.</p>")
     out.append('<p class="muted">Frequency and Q are shown with their uncertainty and to the '
                "digits it supports (details below). Q / Q_Chu compares the Q with the Chu limit "
                "of the smallest sphere around the part(s) that ring; near 1 means the part "

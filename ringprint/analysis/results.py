@@ -24,7 +24,7 @@ import numpy as np
 
 from ringprint import __version__
 from ringprint.analysis.outputs import atomic_write_text
-from ringprint.analysis.textformat import (format_frequency_pm, format_like, format_percent,
+from ringprint.analysis.textformat import (format_frequency_pm, format_like, format_percent, format_q,
                                            format_q_pm)
 from ringprint.errors import RingprintError
 
@@ -39,6 +39,9 @@ MODE_KEYS = ("index", "frequency_hz", "q", "decay_rate_per_s", "amplitude", "err
 #: Columns of modes.csv, in order; other scalar mode keys follow, sorted by name.
 CSV_COLUMNS = ("index", "frequency_hz", "q", "decay_rate_per_s", "amplitude", "error",
                "q_chu", "q_over_chu", "confidence", "worst_status", "bands", "participation")
+#: The Q columns of the conductor-loss model (ringprint.analysis.conductor_loss) follow
+#: "q"; each part's share of the conductor loss ("part=share; ...") goes last.
+CSV_COLUMNS = CSV_COLUMNS[:3] + ("q_solver", "q_conductor") + CSV_COLUMNS[3:] + ("conductor_loss",)
 #: Each mode's uncertainty (ringprint.analysis.uncertainty); optional, but always
 #: columns of modes.csv, after :data:`CSV_COLUMNS` (empty cells when absent).
 UNCERTAINTY_KEYS = ("fit_error", "frequency_uncertainty_hz", "q_uncertainty", "uncertainty_basis",
@@ -176,6 +179,13 @@ def _check_mode(mode, i: int, band_names):
         _number(share, f"{p}.participation.{part}", minimum=0)
         if share > 1 + 1e-9:
             _fail(f"{p}.participation.{part}", f"is {share!r}", "give a fraction between 0 and 1")
+    _number(mode.get("q_solver"), f"{p}.q_solver", minimum=0, strict=True, optional=True)
+    _number(mode.get("q_conductor"), f"{p}.q_conductor", minimum=0, strict=True, optional=True)
+    if not isinstance(mode.get("conductor_loss", {}), dict):
+        _fail(f"{p}.conductor_loss", f"is {mode['conductor_loss']!r}",
+              "give a dict {part name: share of the conductor loss 0..1}")
+    for part, share in mode.get("conductor_loss", {}).items():
+        _number(share, f"{p}.conductor_loss.{part}", minimum=0)
 
 
 def _check_hazard(hazard, k: int, modes):
@@ -317,6 +327,12 @@ def _cell(value) -> str:
     return str(value)
 
 
+def _shares_text(shares: Mapping) -> str:
+    """``"part=fraction"`` joined by ``"; "``, largest first."""
+    return "; ".join(f"{part}={share:.3g}" for part, share in
+                     sorted(shares.items(), key=lambda kv: -kv[1]))
+
+
 def csv_rows(summary: Mapping) -> tuple[list[str], list[list[str]]]:
     """Header and rows of ``modes.csv`` (one row per mode, bands flattened)."""
     modes = summary["modes"]
@@ -331,9 +347,8 @@ def csv_rows(summary: Mapping) -> tuple[list[str], list[list[str]]]:
         flat["worst_status"] = worst_status(mode)
         flat["bands"] = "; ".join(f"{e['band']}: {e['status']} ({e['distance_percent']:.3g} %)"
                                   for e in mode["bands"])
-        flat["participation"] = "; ".join(f"{part}={share:.3g}" for part, share in
-                                          sorted(mode["participation"].items(),
-                                                 key=lambda kv: -kv[1]))
+        flat["participation"] = _shares_text(mode["participation"])
+        flat["conductor_loss"] = _shares_text(mode.get("conductor_loss") or {})
         rows.append([_cell(flat.get(col)) for col in header])
     return header, rows
 
@@ -344,7 +359,8 @@ def write_csv(path: str | os.PathLike, summary: Mapping) -> Path:
     Columns: :data:`CSV_COLUMNS`, then any other scalar mode keys in name order.
     Numbers are written with full precision; an unknown value is an empty cell.
     ``bands`` reads ``"name: status (distance %)"`` joined by ``"; "``;
-    ``participation`` reads ``"part=fraction"`` joined by ``"; "``, largest first.
+    ``participation`` reads ``"part=fraction"`` joined by ``"; "``, largest first, and so
+    does ``conductor_loss`` (each lossy part's share of the conductor loss).
     """
     data = validate_summary(summary)
     header, rows = csv_rows(data)
@@ -395,6 +411,9 @@ def format_summary_table(summary: Mapping) -> str:
     """The plain-text table printed at the end of a run (mode, f and Q with their
     uncertainties, Q/Chu, where the uncertainty comes from, bands hit).
 
+    When a conductor Q is known, "Q solver" (the ring-down's) and "Q cond" follow the
+    combined "Q".
+
     Columns are aligned with spaces; numbers are right-aligned. A run with no modes
     gives one line saying so.
     """
@@ -406,6 +425,11 @@ def format_summary_table(summary: Mapping) -> str:
     rows = [[str(m["index"]), frequency_text(m), q_text(m), q_over_chu_text(m), basis_text(m),
              _bands_hit(m)] for m in modes]
     right = [True, True, True, True, False, False]
+    if any(m.get("q_conductor") is not None for m in modes):
+        header[3:3] = ["Q solver", "Q cond"]
+        right[3:3] = [True, True]
+        for r, m in zip(rows, modes):
+            r[3:3] = [format_q(m.get("q_solver", m["q"])), format_q(m.get("q_conductor"))]
     if any("rings_in" in m for m in modes):
         header.append("rings in")
         right.append(False)

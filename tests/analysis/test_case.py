@@ -211,7 +211,43 @@ def test_sigma_material_and_library_names(tmp_path):
     case = load_case(write_case(tmp_path, text))
     assert case.medium(case.parts[0]) == (4.0, 0.002, False)
     assert case.parts[1].material.name == "fr4" and case.parts[1].material_name == "FR4"
-    assert case.medium(case.parts[2]) == (1.0, 0.0, True)   # finite metals are PEC today
+    # the solver keeps a finite metal perfect; its sigma gives the conductor loss afterwards
+    assert case.medium(case.parts[2]) == (1.0, 0.0, True)
+    assert case.parts[2].material.is_lossy_conductor and case.parts[2].material.sigma == 5.8e7
+
+
+def test_conductor_without_sigma_is_pec_and_mu_r_round_trips(tmp_path):
+    text = minimal().replace('material = "pec"', 'material = { conductor = true }')
+    text += ('[[part]]\nname = "can"\nfile = "tag/housing.step"\n'
+             'material = { name = "plated", conductor = true, sigma = 1.43e7, mu_r = 3.0 }\n')
+    case = load_case(write_case(tmp_path, text))
+    assert not case.parts[0].material.is_lossy_conductor and case.parts[0].material.sigma is None
+    plated = case.parts[1].material
+    assert plated.mu_r == 3.0 and plated.is_lossy_conductor
+    again = tmp_path / "resolved.toml"
+    again.write_text(case.resolved_toml())
+    assert load_case(again).parts[1].material == plated
+
+
+@pytest.mark.parametrize("material, key, fix", [
+    ("{ conductor = true, sigma = 0 }", "material.sigma", '"pec"'),
+    ("{ conductor = true, sigma = -5.8e7 }", "material.sigma", '"pec"'),
+    ("{ eps_r = 3.0, mu_r = 2.0 }", "material.mu_r", "conductor = true"),
+    ("{ conductor = true, sigma = 1e7, mu_r = 0.5 }", "material.mu_r", ">= 1"),
+])
+def test_bad_conductor_is_refused_in_one_line_through_the_cli(tmp_path, capsys, material, key, fix):
+    """A conductor with sigma <= 0 (or a misplaced mu_r): `ringprint mesh` prints one
+    line naming the file, the key and the fix, exits 1 and writes nothing."""
+    from ringprint.analysis import cli
+    path = write_case(tmp_path, minimal().replace('material = "pec"', f"material = {material}"))
+    out = tmp_path / "out"
+    code = cli.main(["mesh", str(path), "--out", str(out)])
+    lines = capsys.readouterr().err.splitlines()
+    assert code == 1 and len(lines) == 1, lines
+    assert lines[0].startswith("ringprint: error: ") and "Traceback" not in lines[0]
+    for fragment in (str(path), repr(key), fix):
+        assert fragment in lines[0], (fragment, lines[0])
+    assert not out.exists() or list(out.iterdir()) == []
 
 
 def test_part_matrix_order(tmp_path):

@@ -11,12 +11,13 @@ from scipy.constants import epsilon_0
 
 from ringprint.analysis.materials import (Material, conversion_frequency, dielectric_q,
                                           get_material, library, loss_tangent_to_sigma,
-                                          sigma_to_loss_tangent)
+                                          sigma_to_loss_tangent, skin_depth)
 from ringprint.errors import RingprintError
 
 REQUIRED = ["pec", "copper", "aluminium", "stainless-steel", "air", "fr4", "ptfe-ceramic-laminate",
             "abs", "pc", "pc-abs", "pa66", "lcp", "ptfe", "alumina", "soda-lime-glass",
-            "aluminosilicate-glass", "polyimide", "water", "battery-pouch"]
+            "aluminosilicate-glass", "polyimide", "water", "battery-pouch", "nickel-plated-steel",
+            "tin"]
 
 
 def test_library_has_the_common_materials():
@@ -35,12 +36,44 @@ def test_every_entry_states_its_source_and_frequency():
     assert "from memory" in get_material("fr4").source
 
 
-def test_conductors_are_perfect_today():
-    for name in ("pec", "copper", "aluminium", "stainless-steel", "battery-pouch"):
+def test_conductors_are_perfect_in_the_solver_and_lossy_by_surface_resistance():
+    """Every conductor is a perfect conductor for the solver; the finite metals carry
+    their sigma for the surface-resistance loss, pec none."""
+    for name in ("pec", "copper", "aluminium", "stainless-steel", "battery-pouch",
+                 "nickel-plated-steel", "tin"):
         m = get_material(name)
         assert m.is_conductor and m.is_pec
         assert m.conductivity(1e9) == math.inf
+        assert m.is_lossy_conductor == (name != "pec")
+        assert (m.surface_resistance(1e9) > 0) == (name != "pec")
     assert get_material("pec").sigma is None
+    assert not get_material("fr4").is_lossy_conductor
+
+
+def test_metal_conductivities_from_their_resistivities():
+    """Bulk resistivities at 20 C (CRC Handbook of Chemistry and Physics class, from
+    memory): aluminium 2.65e-8, nickel 6.99e-8, tin 1.09e-7 ohm m; 304 stainless steel
+    7.2e-7 ohm m (data-sheet class). The nickel plating is taken non-magnetic (mu_r 1),
+    the least loss it can have."""
+    for name, rho in (("aluminium", 2.65e-8), ("nickel-plated-steel", 6.99e-8),
+                      ("tin", 1.09e-7), ("stainless-steel", 7.2e-7)):
+        assert get_material(name).sigma == pytest.approx(1 / rho, rel=5e-3), name
+    nickel = get_material("nickel-plated-steel")
+    assert nickel.mu_r == 1.0 and "from memory" in nickel.source
+    # the RF current stays in a typical plating (3-10 um): the skin depth at 1 GHz is ~4 um
+    assert 3e-6 < skin_depth(1e9, nickel.sigma, nickel.mu_r) < 5e-6
+
+
+def test_conductor_sigma_and_mu_r_are_checked():
+    with pytest.raises(RingprintError, match=r"sigma must be > 0 S/m.*\"pec\"\) for the lossless"):
+        Material("foil", is_conductor=True, sigma=0.0)
+    with pytest.raises(RingprintError, match="mu_r must be a finite number >= 1"):
+        Material("foil", is_conductor=True, sigma=1e7, mu_r=0.5)
+    with pytest.raises(RingprintError, match="mu_r is for conductors only"):
+        Material("ferrite", eps_r=10.0, mu_r=5.0)
+    magnetic = Material("plating", is_conductor=True, sigma=1.43e7, mu_r=4.0)
+    plain = Material("plating", is_conductor=True, sigma=1.43e7)
+    assert magnetic.surface_resistance(2e9) == pytest.approx(2 * plain.surface_resistance(2e9), rel=1e-14)
 
 
 def test_copper_is_the_annealed_copper_standard():
