@@ -151,16 +151,19 @@ def test_output_directory_that_is_a_file(tmp_path, capsys):
 
 
 def test_mode_fields_are_written_and_the_strip_carries_its_mode(strip_run):
-    """With fields on (the default): fields.h5, one mode_NN.vti per mode, participation
-    naming the strip, touch spots, and the hazard naming the part."""
+    """With fields on (the default): fields.h5, one mode_NN.vti (uniform lattice) or
+    mode_NN.vtr (graded, the default grid) per mode, participation naming the strip,
+    touch spots, and the hazard naming the part."""
     from ringprint.analysis.fieldset_io import read_fieldset
 
     _case_path, out, summary = strip_run
     assert summary["results_layout"] == 2 and summary["fields"]["file"] == "fields.h5"
     fs = read_fieldset(out / "fields.h5")
     assert [m.index for m in fs.modes] == [m["index"] for m in summary["modes"]]
+    suffix = "vti" if summary["fields"]["uniform"] else "vtr"
+    assert summary["grid"]["step_min_m"] < summary["grid"]["step_max_m"]   # graded by default
     for m in summary["modes"]:
-        assert (out / f"mode_{m['index']:02d}.vti").is_file()
+        assert (out / f"mode_{m['index']:02d}.{suffix}").is_file()
         assert set(m["participation"]) == {"strip"}
         assert m["touch"]["worst"] and all(s["shift_percent"] <= 0 for s in m["touch"]["worst"])
     half_wave = min(summary["modes"], key=lambda m: abs(m["frequency_hz"] - C0 / (2 * LENGTH_MM * 1e-3)))
@@ -179,7 +182,7 @@ def test_no_fields_skips_them_and_clears_stale_field_files(strip_run, tmp_path, 
     assert code == 0, capsys.readouterr().err
     summary = json.loads((copy / "modes.json").read_text())
     assert summary["fields"] is None and not (copy / "fields.h5").exists()
-    assert not list(copy.glob("mode_*.vti"))
+    assert not list(copy.glob("mode_*.vt[ir]"))
     assert all(m["participation"] == {} for m in summary["modes"])
 
 
@@ -242,8 +245,10 @@ def _te1_pole_ka(eps_r):
 def sphere_study(tmp_path_factory):
     """The eps_r-36 sphere (radius 25 mm, 128-segment mesh, 0.10 % small in volume) at
     13 cells per wavelength in the sphere at f_max (15.6 cells across), grid check on
-    two grids (the coarser at 10: 12 cells across); no fields. The record and padding
-    are those of tests/validation/test_e2e_dielectric_sphere.py."""
+    two grids (the coarser at 10: 12 cells across); no fields; uniform grids (the figures
+    below were measured on them; the graded grid is checked in
+    tests/validation/test_e2e_graded_sphere.py). The record and padding are those of
+    tests/validation/test_e2e_dielectric_sphere.py."""
     tmp = tmp_path_factory.mktemp("sphere_study")
     _write_sphere(tmp / "ball.stl", SPHERE_MM)
     case = tmp / "ball.toml"
@@ -260,6 +265,7 @@ material = {{ eps_r = {SPHERE_EPS} }}
 [grid]
 cells_per_wavelength = 13
 padding = {SPHERE_MM}
+graded = false
 [analysis]
 q_max = 25
 grid_check = true
