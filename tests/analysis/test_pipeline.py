@@ -281,10 +281,13 @@ def test_grid_study_moves_towards_the_mie_pole_and_covers_the_error(sphere_study
     """Against the b_1 Mie pole (Bohren & Huffman 1983, computed above): the Richardson
     value lies closer to it than the computed one, in frequency and in Q, and the stated
     uncertainty (GCI, Roache 1994, safety 3, order 2) covers the computed-vs-reference
-    difference. Measured at the time of writing: f +0.46 %, extrapolated +0.23 %,
-    uncertainty 0.68 %; Q +0.79 %, extrapolated +0.28 %, uncertainty 1.5 %. The
-    uncertainty must also stay informative: below 1 % in f and 3 % in Q (twice the
-    measured GCI, which would catch a safety factor or order applied twice)."""
+    difference. With two grids the uncertainty is not below the stated bound
+    (grid_study.TWO_GRID_FLOOR): here the Q moved by only 0.06 % between the grids while
+    it lies +0.75 % off the pole, and the GCI alone (0.27 %) did not cover it. Measured:
+    f uncertainty 1.08 % (the stated bound: Yee dispersion at 13 cells per wavelength
+    plus the geometry term), Q covered by its stated bound. The uncertainty must also
+    stay informative: below 1.5 % in f and 3 % in Q (which would catch a safety factor
+    or order applied twice)."""
     _out, summary, _text = sphere_study
     x = _te1_pole_ka(SPHERE_EPS)
     f_ref = C0 * x.real / (2 * np.pi * SPHERE_MM * 1e-3)
@@ -298,7 +301,7 @@ def test_grid_study_moves_towards_the_mie_pole_and_covers_the_error(sphere_study
     q, q_ext, u_q = mode["q"], mode["q_extrapolated"], mode["q_uncertainty"]
     assert abs(f_ext - f_ref) < abs(f - f_ref)
     assert abs(q_ext - q_ref) < abs(q - q_ref)
-    assert abs(f - f_ref) <= u_f < 0.01 * f
+    assert abs(f - f_ref) <= u_f < 0.015 * f
     assert abs(q - q_ref) <= u_q < 0.03 * q
 
 
