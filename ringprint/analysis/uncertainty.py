@@ -80,8 +80,8 @@ STATED_BASIS = (
     "2005, ch. 4) plus a geometry term falling like 1/(cells across the part) from the "
     "validation runs: dielectric sphere (eps_r 36) f +0.61/+0.46/+0.41 %, Q +1.14/+0.79/"
     "+0.33 % at 12/15.6/19.2 cells across; staircased metal sphere f +0.95/+0.66/+0.26 %, "
-    "Q +9.2/+7.6/+6.1 % at 16/20/24 cells across; conformal metal sphere f -0.26/+0.02/"
-    "-0.07 %, Q +0.94/+0.79/+0.70 % at 16/20/24 cells across, conformal cylindrical cavity "
+    "Q +9.2/+7.6/+6.1 % at 16/20/24 cells across; conformal metal sphere f +0.08/+0.08/"
+    "+0.09 %, Q +0.37/+0.62/+0.47 % at 16/20/24 cells across, conformal cylindrical cavity "
     "f -0.70/-0.32/-0.18 % at 12/16/20 cells across; dielectric resonator f +1.3 % at 15.5 "
     "cells across (against a 2 % formula)")
 

@@ -15,12 +15,12 @@ probe is placed automatically (a one-cell loop beside the surface, off every
 symmetry plane). Mesh: UV sphere with 128 segments, volume 0.10 % small.
 
 The metal is conformal (Dey & Mittra 1997, ringprint.fdtd.conformal). Measured
-(frequency and Q errors vs the pole, by cells across the sphere): 16 cells -0.26 % /
-+0.94 %; 20 cells +0.02 % / +0.79 %; 24 cells -0.07 % / +0.70 %. The staircase it
+(frequency and Q errors vs the pole, by cells across the sphere): 16 cells +0.08 % /
++0.37 %; 20 cells +0.08 % / +0.62 %; 24 cells +0.09 % / +0.47 %. The staircase it
 replaced gave +0.95 % / +9.2 %, +0.66 % / +7.6 %, +0.26 % / +6.1 %. The test runs 20
 cells (10 per radius) against the tolerances of 0.5 % in f and 3 % in Q asked for
 conformal metal; the TM_2 pole (Stratton: k a = 1.8073 - 0.7020j, 2.876 GHz, Q 1.287)
-comes out at -0.38 % / +1.6 % on 16 cells and +0.50 % / +3.1 % on 24.
+comes out at -0.29 % / +0.70 %, +0.32 % / +2.8 % and +0.73 % / +1.7 % on the same grids.
 
 The Chu bound: the reference pole itself has Q = 0.866, while the Chu limit of its
 own sphere at its own frequency is 1/(ka)^3 + 1/(ka) = 2.69 (k a = 0.866). The
