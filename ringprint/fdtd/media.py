@@ -41,7 +41,7 @@ class Media:
         PEC).
     min_step_factor : float
         Smallest time-step factor the cut faces may force (see
-        :mod:`ringprint.fdtd.conformal`); faces needing less are closed as metal.
+        :mod:`ringprint.fdtd.conformal`); faces needing less get a larger area.
 
     Notes
     -----
@@ -148,8 +148,8 @@ class Media:
 
 
 def _conformal(grid, free_length, free_area, masks, min_step_factor):
-    """The cut faces, and the PEC masks with the edges too short in free length added
-    (``MIN_FREE_LENGTH``)."""
+    """The cut faces, and the PEC masks with the edges that graze the metal added
+    (:func:`ringprint.fdtd.conformal.short_edges`)."""
     if free_length is None and free_area is None:
         return None, masks
     if free_length is None or free_area is None:
