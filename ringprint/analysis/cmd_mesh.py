@@ -73,7 +73,8 @@ def run_time_estimate(model: Model, throughput: float = THROUGHPUT_CELLS_PER_S) 
     Returns
     -------
     dict
-        ``dt_s, source_s, ringdown_s, steps, cells, throughput, passes, seconds``.
+        ``dt_s, step_factor, source_s, ringdown_s, steps, cells, throughput, passes,
+        seconds`` (``step_factor``: what conformal metal asks of the Courant step).
 
     References
     ----------
@@ -82,12 +83,17 @@ def run_time_estimate(model: Model, throughput: float = THROUGHPUT_CELLS_PER_S) 
     (Q as stored energy over loss per radian, hence the decay rate pi f / Q).
     """
     case = model.case
-    dt = fdtd.courant_time_step(model.fdtd_grid(), COURANT)
+    grid = model.fdtd_grid()
+    # conformal metal may need a shorter step (ringprint.fdtd.conformal): the same media
+    # the run builds decide it
+    factor = model.media(grid).step_factor if model.free_length is not None else 1.0
+    dt = fdtd.courant_time_step(grid, COURANT) * factor
     source = float(ringdown.source_pulse(case).t_end)
     steps = ringdown.record_limit(case, dt, source)
     cells = int(np.prod([n - 1 for n in model.grid.shape]))
     passes = 2 if case.output.fields else 1
-    return {"dt_s": dt, "source_s": source, "ringdown_s": ringdown.ringdown_time(case),
+    return {"dt_s": dt, "step_factor": factor, "source_s": source,
+            "ringdown_s": ringdown.ringdown_time(case),
             "steps": steps, "cells": cells, "throughput": float(throughput), "passes": passes,
             "seconds": passes * cells * steps / throughput}
 
@@ -200,7 +206,8 @@ def summary(model: Model, owners: np.ndarray, estimate: dict, case_path: str) ->
     lines += _grid_rows(model, estimate)
     lines += [
         f"time step: {format_si(estimate['dt_s'], 's')} (Courant factor {COURANT}, from the smallest "
-        f"cell on each axis)",
+        f"cell on each axis" + (f", times {estimate['step_factor']:.2f} for the cut cells of "
+                                "conformal metal" if estimate["step_factor"] < 1.0 else "") + ")",
         f"memory: {format_bytes(model.memory['total'])} needed ("
         + ", ".join(f"{k} {format_bytes(v)}" for k, v in model.memory.items() if k != "total")
         + f"), {format_bytes(available_memory())} available",

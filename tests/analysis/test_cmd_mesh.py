@@ -259,6 +259,28 @@ def test_graded_run_time_uses_the_real_time_step_and_cells(meshed_graded):
     assert f"{est['steps']:,} steps" in meshed_graded["stdout"]
 
 
+def test_run_time_estimate_uses_the_solver_s_own_time_step_with_conformal_metal(tmp_path):
+    """A conducting box thick enough to be conformal: the estimate's step is the one the
+    solver takes, Courant times the factor its cut faces need (ringprint.fdtd.conformal)."""
+    from ringprint import fdtd
+    from ringprint.analysis.cmd_mesh import run_time_estimate
+    from ringprint.analysis.model import build_model
+    from ringprint.meshing import primitives
+
+    s = primitives.box((-7.3, -5.1, -3.7), (6.9, 5.3, 4.1))
+    meshio.write(tmp_path / "can.stl", meshio.Mesh(s.vertices, [("triangle", s.faces)]))
+    (tmp_path / "can.toml").write_text('units = "mm"\n[spectrum]\nf_min = "2 GHz"\n'
+                                      'f_max = "6 GHz"\n[[part]]\nname = "can"\nfile = "can.stl"\n'
+                                      'material = "pec"\n[grid]\ngraded = false\n')
+    model = build_model(load_case(tmp_path / "can.toml"))
+    est = run_time_estimate(model, throughput=1e7)
+    media = model.media()
+    assert media.conformal is not None and media.conformal.size > 0
+    sim = fdtd.Simulation(model.fdtd_grid(), media, cpml_cells=model.grid.boundary_cells)
+    assert est["step_factor"] == media.step_factor < 1.0
+    assert est["dt_s"] == pytest.approx(sim.dt, rel=1e-12)
+
+
 def test_tiny_min_feature_refused_for_memory(tmp_path, capsys, monkeypatch):
     """A 0.02 mm slit between two plates: the default min_feature (0.15 mm here) leaves
     it sub-cell; min_feature = 0.005 mm refines it, the estimate grows, and with the
