@@ -27,7 +27,7 @@ import numpy as np
 
 from ringprint.errors import RingprintError
 from ringprint.meshing import _kernels, _rays
-from ringprint.meshing.voxelize import COMPONENTS, EdgeBox, _boxes, _check_axes
+from ringprint.meshing._boxes import COMPONENTS, EdgeBox, check_axes, part_ranges
 
 #: Sample lines per cell across each face (midpoint rule).
 FACE_SAMPLES = 4
@@ -35,7 +35,7 @@ FACE_SAMPLES = 4
 
 def _ranges(surface, axes):
     """Per axis: the cells overlapping the part's box and the nodes bounding them."""
-    cells, _ = _boxes(*surface.bounds, axes, surface.name)
+    cells, _ = part_ranges(*surface.bounds, axes, surface.name)
     nodes = [(c0, c1 + 1) for c0, c1 in cells]
     return cells, nodes
 
@@ -92,7 +92,7 @@ def conformal_fractions(surface, x, y, z, samples=FACE_SAMPLES, faces=True):
                              f"not a {surface.kind}")
     if int(samples) != samples or not 1 <= samples <= 16:
         raise RingprintError(f"samples = {samples!r} must be an integer from 1 to 16")
-    axes = _check_axes(x, y, z)
+    axes = check_axes(x, y, z)
     cells, nodes = _ranges(surface, axes)
     lines = {}
     for a, comp in enumerate(COMPONENTS):

@@ -235,7 +235,8 @@ def plan_axis(lines, targets, cell, padding, boundary_cells):
     lines : array_like
         Coordinates (m) that must be nodes, at least one; sorted and distinct.
     targets : sequence of (lo, hi, h)
-        Largest spacing ``h`` (m) over ``[lo, hi]``; the air cell holds elsewhere.
+        Largest spacing ``h`` (m) over ``[lo, hi]``; the air cell holds elsewhere. A
+        target no wider than 1e-9 of a cell (round-off) is ignored.
     cell : float
         Nominal (largest) spacing, m.
     padding : float
@@ -253,6 +254,8 @@ def plan_axis(lines, targets, cell, padding, boundary_cells):
     spans = []
     for lo, hi, h in targets:
         h = min(float(h), cell)
+        if hi - lo <= 1e-9 * cell:    # no extent beyond round-off: nothing to refine
+            continue
         on = [bool(np.min(np.abs(lines - v)) <= 1e-9 * cell) for v in (lo, hi)]
         spans.append((max(far[0], lo - (0 if on[0] else 1.01 * h)),
                       min(far[1], hi + (0 if on[1] else 1.01 * h)), h))

@@ -5,7 +5,7 @@ import dataclasses
 import numpy as np
 
 from ringprint.errors import RingprintError
-from ringprint.meshing.voxelize import COMPONENTS, EdgeBox
+from ringprint.meshing._boxes import COMPONENTS, EdgeBox
 
 
 def resolve_overlaps(fills, shapes, priority=None):

@@ -6,27 +6,8 @@ import numpy as np
 
 from ringprint.errors import RingprintError
 from ringprint.meshing import _kernels, _rays
-
-COMPONENTS = ("x", "y", "z")
-
-
-@dataclass(frozen=True)
-class EdgeBox:
-    """Data of one E component restricted to a part's box.
-
-    ``data[..., i, j, k]`` belongs to the full edge array index
-    ``(offset[0] + i, offset[1] + j, offset[2] + k)`` of that component
-    (Ex: (Nx-1, Ny, Nz), Ey: (Nx, Ny-1, Nz), Ez: (Nx, Ny, Nz-1)).
-    """
-
-    offset: tuple
-    data: np.ndarray
-
-    @property
-    def slices(self):
-        """Index into the full component array: ``full[box.slices]``."""
-        shape = self.data.shape[-3:]
-        return tuple(slice(o, o + n) for o, n in zip(self.offset, shape))
+from ringprint.meshing._boxes import COMPONENTS, EdgeBox, check_axes, dual_nodes, part_ranges
+from ringprint.meshing.conformal import conformal_fractions, edge_lines
 
 
 @dataclass(frozen=True)
@@ -96,42 +77,6 @@ class PartFill:
         return out
 
 
-def dual_nodes(a):
-    """Boundaries of the dual intervals of the nodes of axis ``a`` (len(a) + 1):
-    midpoints between nodes, and half a cell beyond the end nodes."""
-    a = np.asarray(a, np.float64)
-    return np.concatenate([[a[0] - (a[1] - a[0]) / 2], (a[:-1] + a[1:]) / 2, [a[-1] + (a[-1] - a[-2]) / 2]])
-
-
-def _check_axes(x, y, z):
-    axes = []
-    for name, a in zip("xyz", (x, y, z)):
-        a = np.asarray(a, np.float64)
-        if a.ndim != 1 or a.size < 2 or not np.all(np.isfinite(a)) or np.any(np.diff(a) <= 0):
-            raise RingprintError(f"grid axis {name} must be a strictly increasing vector of at least "
-                                 "2 finite node coordinates (metres); use plan_grid")
-        axes.append(a)
-    return axes
-
-
-def _boxes(lo, hi, axes, name):
-    """Per axis: (cell range overlapping [lo, hi], node range whose dual overlaps)."""
-    cells, nodes = [], []
-    for d, a in enumerate(axes):
-        i0 = max(np.searchsorted(a, lo[d], "right") - 1, 0)
-        i1 = min(max(np.searchsorted(a, hi[d], "left"), i0 + 1), a.size - 1)
-        du = dual_nodes(a)
-        j0 = max(np.searchsorted(du, lo[d], "right") - 1, 0)
-        j1 = min(np.searchsorted(du, hi[d], "right"), a.size)
-        if hi[d] < a[0] or lo[d] > a[-1] or i1 <= i0 or j1 <= j0:
-            raise RingprintError(f"part {name!r} lies outside the grid along {'xyz'[d]} "
-                                 f"({lo[d]:.4g}..{hi[d]:.4g} m vs {a[0]:.4g}..{a[-1]:.4g} m): "
-                                 "plan the grid from all parts' bounds")
-        cells.append((int(i0), int(i1)))
-        nodes.append((int(j0), int(j1)))
-    return cells, nodes
-
-
 def _subray_positions(a, j0, j1, n):
     du = dual_nodes(a)[j0:j1 + 1]
     w = np.diff(du)
@@ -171,12 +116,12 @@ def edge_fractions(surface, x, y, z, subrays=3):
     Edelsbrunner, H. & Muecke, E. P., "Simulation of simplicity", ACM Trans. Graph.
     9(1):66-104, 1990.
     """
-    axes = _check_axes(x, y, z)
+    axes = check_axes(x, y, z)
     if int(subrays) != subrays or subrays < 1 or subrays > 9:
         raise RingprintError(f"subrays = {subrays!r} must be an integer from 1 to 9")
     n = int(subrays)
     lo, hi = surface.bounds
-    cells, nodes = _boxes(lo, hi, axes, surface.name)
+    cells, nodes = part_ranges(lo, hi, axes, surface.name)
     out = {}
     for a, comp in enumerate(COMPONENTS):
         b, c = _rays.frame(a)
@@ -209,9 +154,9 @@ def surface_cuts(surface, x, y, z):
     dict
         ``{"x"|"y"|"z": EdgeBox}`` with bool data (bx, by, bz).
     """
-    axes = _check_axes(x, y, z)
+    axes = check_axes(x, y, z)
     lo, hi = surface.bounds
-    cells, nodes = _boxes(lo, hi, axes, surface.name)
+    cells, nodes = part_ranges(lo, hi, axes, surface.name)
     out = {}
     for e, comp in enumerate(COMPONENTS):
         rng = [nodes[d] for d in range(3)]
@@ -268,7 +213,6 @@ def voxelize(surface, x, y, z, subrays=3, cuts=False, faces=False):
         raise RingprintError(f"part {surface.name!r} has not been checked: call prepare_surface first")
     if surface.kind == "sheet":
         return PartFill(surface.name, "sheet", int(subrays), None, surface_cuts(surface, x, y, z))
-    from ringprint.meshing.conformal import conformal_fractions, edge_lines
     fr = edge_fractions(surface, x, y, z, subrays)
     if faces:
         lines, face_fr = conformal_fractions(surface, x, y, z)

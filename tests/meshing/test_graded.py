@@ -62,7 +62,9 @@ def feature_sets(draw):
 def test_plan_axis_keeps_its_rules(case):
     """Grading rule (ratio <= 1.3 everywhere), lines on nodes, every cell overlapping a
     target no larger than it, no cell above the nominal one, padding and a uniform
-    absorbing layer. Tolerance 1e-9 relative (round-off only: the rule is exact)."""
+    absorbing layer. Tolerance 1e-9 relative (round-off only: the rule is exact).
+    Hypothesis once drew a target 7e-18 m wide at the last line: such a target has no
+    extent and is ignored by the planner's rule."""
     lines, targets, padding = case
     cell, bc = 1.0 * MM, 10
     a = plan_axis(lines, targets, cell, padding, bc)
@@ -73,6 +75,8 @@ def test_plan_axis_keeps_its_rules(case):
     for line in lines:
         assert np.min(np.abs(a - line)) == 0.0
     for lo, hi, h in targets:
+        if hi - lo <= 1e-9 * cell:   # a target of round-off width is ignored (plan_axis)
+            continue
         over = (a[1:] > lo) & (a[:-1] < hi)
         assert np.all(d[over] <= min(h, cell) * (1 + TIGHT)), (lo, hi, h, d[over].max())
     # padding kept, to the planner's count tolerance (1e-9 of a cell)
