@@ -198,9 +198,9 @@ def _h_conformal(i, f, ch, ih, cf, wn, wc, en):
     """Dey-Mittra update of the cut H faces on plane i (after the plain rows).
 
     The plain row gave ``H - c curl E``; a cut face wants ``H - c g curl(l E)`` with
-    the free edge fractions l and ``g = 1 / free area`` (0: no free area, H = 0), so the
-    difference ``c (curl E - g curl(l E))`` is added back. E on planes i and i+1 is
-    still E^n here (the fused sweep updates E on plane i after this).
+    the free edge fractions l and ``g = 1 / free area`` (0: no free area, H = 0), so
+    the plain step is undone and the cut one taken. E on planes i and i+1 is still E^n
+    here (the fused sweep updates E on plane i after this).
 
     With ``en`` it returns what turns the plain row's energy term ``H_old H_plain w``
     of each cut face into the conserved form ``a H_old H_new w`` of the scheme
@@ -217,50 +217,34 @@ def _h_conformal(i, f, ch, ih, cf, wn, wc, en):
         if c == 0:
             p0, p1, q0, q1 = ez[i, j, k], ez[i, j + 1, k], ey[i, j, k], ey[i, j, k + 1]
             sp, sq = iyh[j], izh[k]
+            now, sch = hx[i, j, k], ch
+            w = wn[0][i] * wc[1][j] * wc[2][k]
         elif c == 1:
             p0, p1, q0, q1 = ez[i, j, k], ez[i + 1, j, k], ex[i, j, k], ex[i, j, k + 1]
             sp, sq = ixh[i], izh[k]
+            now, sch = hy[i, j, k], -ch   # Hy's row carries the opposite sign
+            w = wc[0][i] * wn[1][j] * wc[2][k]
         else:
             p0, p1, q0, q1 = ey[i, j, k], ey[i + 1, j, k], ex[i, j, k], ex[i, j + 1, k]
             sp, sq = ixh[i], iyh[j]
+            now, sch = hz[i, j, k], ch
+            w = wc[0][i] * wc[1][j] * wn[2][k]
         plain = (p1 - p0) * sp - (q1 - q0) * sq
         cut = ((ln[n, 1] * p1 - ln[n, 0] * p0) * sp - (ln[n, 3] * q1 - ln[n, 2] * q0) * sq) * gi
-        d = ch * (plain - cut)
-        if gi == 0.0:  # no free area: the face is metal, its H is set to zero
-            d = now_of(c, hx, hy, hz, i, j, k)
-            if c != 1:
-                d = -d
+        old = now + sch * plain          # undo the plain row
+        # no free area: the face is metal and its H is zero (now - now keeps the dtype)
+        new = old - sch * cut if gi != 0.0 else now - now
         if c == 0:
-            now = hx[i, j, k]
-            hx[i, j, k] = now + d
-            old = now + ch * plain
-            w = wn[0][i] * wc[1][j] * wc[2][k]
+            hx[i, j, k] = new
         elif c == 1:
-            now = hy[i, j, k]
-            hy[i, j, k] = now - d
-            old = now - ch * plain
-            w = wc[0][i] * wn[1][j] * wc[2][k]
+            hy[i, j, k] = new
         else:
-            now = hz[i, j, k]
-            hz[i, j, k] = now + d
-            old = now + ch * plain
-            w = wc[0][i] * wc[1][j] * wn[2][k]
+            hz[i, j, k] = new
         if en:
             area = 1.0 / gi if gi > 0 else 0.0
-            new = now + d if c != 1 else now - d
             acc += np.float64(w) * (area * np.float64(old) * np.float64(new)
                                     - np.float64(old) * np.float64(now))
     return acc
-
-
-@njit(cache=True, inline="always")
-def now_of(c, hx, hy, hz, i, j, k):
-    """The current value of face (i, j, k) of H component c."""
-    if c == 0:
-        return hx[i, j, k]
-    if c == 1:
-        return hy[i, j, k]
-    return hz[i, j, k]
 
 
 @njit(cache=True)

@@ -79,9 +79,9 @@ class ConformalFaces:
     """The cut H faces as a sparse list sorted by the plane index i.
 
     ``ptr[i]:ptr[i+1]`` are the entries on plane i; per entry ``comp`` (0, 1, 2 for
-    Hx, Hy, Hz), ``j``, ``k``, ``inv_area`` (1/a, 0 for a face held as metal) and
-    ``lengths[n] = (l0, l1, l2, l3)``, the free fractions of its edges in the order
-    of :func:`_edges`. ``edge_comp``, ``edge_index`` (n, 3) and ``edge_length`` list the
+    Hx, Hy, Hz), ``j``, ``k``, ``inv_area`` (1/a; 0 for a face with no free area,
+    whose H is zero) and ``lengths[n] = (l0, l1, l2, l3)``, the free fractions of its
+    edges in the order of :data:`_FACE_EDGES`. ``edge_comp``, ``edge_index`` (n, 3) and ``edge_length`` list the
     partly free E edges (for the conserved energy). ``step_factor`` multiplies the grid's
     Courant step.
     """
@@ -114,16 +114,20 @@ class ConformalFaces:
                    np.zeros((0, 3), np.int32), np.zeros(0), 1.0, 0)
 
 
+#: The four E edges of an H_h face (i, j, k) in the order (p0, p1, q0, q1) the kernel
+#: uses, as (E component, index offset): Hx: Ez(j), Ez(j+1), Ey(k), Ey(k+1);
+#: Hy: Ez(i), Ez(i+1), Ex(k), Ex(k+1); Hz: Ey(i), Ey(i+1), Ex(j), Ex(j+1).
+_FACE_EDGES = (
+    ((2, (0, 0, 0)), (2, (0, 1, 0)), (1, (0, 0, 0)), (1, (0, 0, 1))),
+    ((2, (0, 0, 0)), (2, (1, 0, 0)), (0, (0, 0, 0)), (0, (0, 0, 1))),
+    ((1, (0, 0, 0)), (1, (1, 0, 0)), (0, (0, 0, 0)), (0, (0, 1, 0))),
+)
+
+
 def _edges(h: int, idx):
-    """The four E edges of the H_h faces ``idx = (i, j, k)`` as (component, index) in
-    the order (p0, p1, q0, q1) the kernel uses: Hx: Ez(j), Ez(j+1), Ey(k), Ey(k+1);
-    Hy: Ez(i), Ez(i+1), Ex(k), Ex(k+1); Hz: Ey(i), Ey(i+1), Ex(j), Ex(j+1)."""
-    i, j, k = idx
-    if h == 0:
-        return [(2, (i, j, k)), (2, (i, j + 1, k)), (1, (i, j, k)), (1, (i, j, k + 1))]
-    if h == 1:
-        return [(2, (i, j, k)), (2, (i + 1, j, k)), (0, (i, j, k)), (0, (i, j, k + 1))]
-    return [(1, (i, j, k)), (1, (i + 1, j, k)), (0, (i, j, k)), (0, (i, j + 1, k))]
+    """The four E edges of the H_h faces ``idx = (i, j, k)`` as (component, index
+    arrays), in the order of :data:`_FACE_EDGES`."""
+    return [(c, tuple(v + o for v, o in zip(idx, off))) for c, off in _FACE_EDGES[h]]
 
 
 def _faces_of_edge(c: int, idx):
@@ -191,7 +195,7 @@ class _Geometry:
 
 
 def conformal_faces(grid, free_length, free_area, min_step_factor: float = MIN_STEP_FACTOR):
-    """The cut faces of a grid, the faces closed for stability and the step factor.
+    """The cut faces of a grid (the stiffest with enlarged areas) and the step factor.
 
     Parameters
     ----------
@@ -217,9 +221,9 @@ def conformal_faces(grid, free_length, free_area, min_step_factor: float = MIN_S
     for h in range(3):
         a = np.asarray(free_area[h])
         # a face needs its own update when its area is partly free, an edge is partly
-        # free, or its area is closed while an edge is free (then H is held). Faces whose
-        # edges are only wholly free or wholly PEC on a whole free area are what the
-        # plain update already does, and faces wholly inside metal never change.
+        # free, or its area is closed while an edge is free (then its H is zero). Faces
+        # whose edges are only wholly free or wholly PEC on a whole free area are what
+        # the plain update already does, and faces wholly inside metal never change.
         cut = (a > _TOL) & (a < 1.0 - _TOL)
         for c, sl in _edge_views(h, a.shape):
             lam = np.asarray(free_length[c])[sl]
@@ -227,19 +231,17 @@ def conformal_faces(grid, free_length, free_area, min_step_factor: float = MIN_S
         idx = np.nonzero(cut)
         lam = np.stack([geo.lookup(free_length[c], geo.shape_e[c], e, 0.0)[0]
                         for c, e in _edges(h, idx)], axis=-1) if idx[0].size else np.zeros((0, 4))
-        area = a[idx].astype(np.float64)
-        keep = (area > 0) | (lam.max(axis=1, initial=0.0) > 0)
-        picks.append([h, tuple(v[keep] for v in idx), area[keep], lam[keep]])
+        picks.append((h, idx, lam))
     # the plain Courant step of the grid's finest cells, dt_c = 1/(c0 sqrt(sum 1/d^2)):
     # a cut row sum G needs dt <= 2/(c0 sqrt(G)), i.e. the factor 1/sqrt(G (c0 dt_c)^2 / 4)
     scale = 0.25 / float(np.sum(1.0 / grid.min_spacing() ** 2))
     cap = 1.0 / s_min ** 2
     areas = [np.array(v, np.float32) for v in free_area]
     geo.free_area = areas
-    enlarged = [np.zeros(idx[0].size, bool) for _h, idx, _a, _l in picks]
+    enlarged = [np.zeros(idx[0].size, bool) for _h, idx, _l in picks]
     for _round in range(ENLARGE_ROUNDS):
         changed = False
-        for n, (h, idx, _a, _l) in enumerate(picks):
+        for n, (h, idx, _l) in enumerate(picks):
             if idx[0].size == 0:
                 continue
             r = geo.row_sums(h, idx) * scale
@@ -251,11 +253,11 @@ def conformal_faces(grid, free_length, free_area, min_step_factor: float = MIN_S
                 changed = True
         if not changed:
             break
-    worst = max((float((geo.row_sums(h, idx) * scale).max()) for h, idx, _a, _l in picks
+    worst = max((float((geo.row_sums(h, idx) * scale).max()) for h, idx, _l in picks
                  if idx[0].size), default=0.0)
     factor = float(min(1.0, 1.0 / np.sqrt(max(worst, 1e-300))))
     comp, jj, kk, ii, inv, lens = [], [], [], [], [], []
-    for h, idx, _area, lam in picks:
+    for h, idx, lam in picks:
         a = areas[h][idx].astype(np.float64)
         ii.append(idx[0])
         jj.append(idx[1])
@@ -302,14 +304,6 @@ def short_edges(grid, free_length, free_area, ratio: float = MIN_FREE_LENGTH):
 
 
 def _edge_views(h, shape):
-    """Slices of the E arrays giving, for every H_h face, each of its four edges."""
-    nx, ny, nz = shape
-    s = slice
-    if h == 0:   # Hx (Nx, Ny-1, Nz-1)
-        return [(2, (s(None), s(0, ny), s(None))), (2, (s(None), s(1, ny + 1), s(None))),
-                (1, (s(None), s(None), s(0, nz))), (1, (s(None), s(None), s(1, nz + 1)))]
-    if h == 1:   # Hy (Nx-1, Ny, Nz-1)
-        return [(2, (s(0, nx), s(None), s(None))), (2, (s(1, nx + 1), s(None), s(None))),
-                (0, (s(None), s(None), s(0, nz))), (0, (s(None), s(None), s(1, nz + 1)))]
-    return [(1, (s(0, nx), s(None), s(None))), (1, (s(1, nx + 1), s(None), s(None))),
-            (0, (s(None), s(0, ny), s(None))), (0, (s(None), s(1, ny + 1), s(None)))]
+    """Slices of the E arrays giving, for every face of an H_h array shaped ``shape``,
+    each of its four edges (:data:`_FACE_EDGES`)."""
+    return [(c, tuple(slice(o, o + n) for o, n in zip(off, shape))) for c, off in _FACE_EDGES[h]]
