@@ -258,10 +258,11 @@ def _edges_between(nodes: np.ndarray, comp: str) -> np.ndarray:
     return nodes[tuple(lo)] & nodes[tuple(hi)]
 
 
-def _dielectric_average(comp: str, dielectric, coords=None):
+def _dielectric_average(comp: str, dielectric, coords):
     """Effective complex permittivity of the edges of ``comp`` near dielectric parts.
 
-    ``dielectric`` lists ``(PartFill, complex eps_r)``. Returns ``(region, eps)``:
+    ``dielectric`` lists ``(PartFill, complex eps_r)``; ``coords`` the edge coordinates
+    along x, y, z (:func:`_edge_coords`). Returns ``(region, eps)``:
     the slice of the full edge array covering every part's box, and its values.
 
     Where one part alone meets air on an edge: ``eps_aa = w <1/eps>^-1 + (1 - w) <eps>``
@@ -305,10 +306,7 @@ def _dielectric_average(comp: str, dielectric, coords=None):
     eps = np.mean(1.0 / inverse, axis=0)
     total = np.sum(volume, axis=0)
     for frac, (_f, eps_c) in zip(volume, dielectric):
-        if coords is not None and min(frac.shape) >= 2:   # physical gradient: graded grids
-            grad = np.gradient(frac, *(c[l:h] for c, l, h in zip(coords, lo, hi)))
-        else:
-            grad = np.gradient(frac)
+        grad = np.gradient(frac, *(c[l:h] for c, l, h in zip(coords, lo, hi)))  # in metres
         g2 = grad[0] ** 2 + grad[1] ** 2 + grad[2] ** 2
         alone = (frac > 0) & (frac < 1) & (np.abs(total - frac) < 1e-6) & (g2 > 0)
         fa = frac[alone]
