@@ -13,7 +13,7 @@ looking at a model, one value per *cell* is easier to read, so this module makes
   one of whose three centre lines it crosses (:func:`ringprint.meshing.surface_cuts`
   on the grids ``(x, yc, zc)``, ``(xc, y, zc)``, ``(xc, yc, z)``): a plate then
   shows as one layer of cells however it is tilted, where the centre rule alone
-  would lose it. Where parts overlap, the higher ``priority`` wins, else the later
+  would lose it. Where parts overlap, the higher ``overlap_rank`` wins, else the later
   part in the case (the rule of :func:`ringprint.meshing.resolve_overlaps`).
 - **eps_r**: the mean relative permittivity of the cell's 12 edges (what the solver
   uses, averaged for display; PEC edges count as 1).
@@ -99,7 +99,7 @@ def cell_owners(model: Model) -> np.ndarray:
     """
     grid = model.grid
     ids = np.zeros(tuple(n - 1 for n in grid.shape), np.int32)
-    order = sorted(range(len(model.parts)), key=lambda i: (model.parts[i].part.priority, i))
+    order = sorted(range(len(model.parts)), key=lambda i: (model.parts[i].part.overlap_rank, i))
     for i in order:
         p = model.parts[i]
         crossed = shows_crossed_cells(p)
