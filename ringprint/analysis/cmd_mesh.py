@@ -250,7 +250,7 @@ def write_outputs(model: Model, owners: np.ndarray, out_dir: Path) -> list[Path]
         vti, png, toml = (stack.enter_context(atomic_path(f)) for f in finals)
         image.save(str(vti), binary=True)
         voxel_image.render_preview(model, image, png)
-        toml.write_text(model.case.resolved_toml(), encoding="utf-8")
+        toml.write_text(model.case.resolved_toml(relative_to=out_dir), encoding="utf-8")
     return finals
 
 

@@ -143,16 +143,19 @@ def run_case(case_path, out_dir=None, resume: bool = False, progress: bool | Non
     problem = check_grid_study(case.grid.cells_per_wavelength, grids)
     if problem:
         raise RingprintError(f"{case.source}: {problem}")
-    out = prepare_output_dir(out_dir if out_dir is not None else default_out_dir(case_path))
+    out = Path(out_dir if out_dir is not None else default_out_dir(case_path))
     digest = case.digest()
     fields = case.output.fields if fields is None else bool(fields)
-    sim = ringdown.load_checkpoint(out, digest) if resume else None  # refuse early
+    sim = ringdown.load_checkpoint(out, digest) if resume else None  # refuse before creating out
+    out = prepare_output_dir(out)
     handler = RunLogHandler(out)
     log.addHandler(handler)
     log.setLevel(logging.INFO)
     bar = _Progress(sys.stderr.isatty() if progress is None else progress)
     try:
         log.info("ringprint %s, case %s (digest %s)", __version__, case.source, digest[:16])
+        for note in case.notes:
+            log.warning(note)
         bar.at(0.0, "meshing")
         model = build_model(case, allow_memory=allow_memory,
                             progress=lambda d, n, what: bar.at(0.1 * d / n, "meshing"))
@@ -183,7 +186,7 @@ def run_case(case_path, out_dir=None, resume: bool = False, progress: bool | Non
         bands = list(case.bands)
         modes, hazards = mode_table(res, rows, ring.probe_signal, radius, bands,
                                     case.analysis.detuning_margin)
-        notes = list(model.warnings)
+        notes = list(case.notes) + list(model.warnings)
         coarse = []
         for level in range(1, grids if modes else 1):       # nothing to compare without modes
             bar.at(0.9, "grid check")
@@ -227,13 +230,17 @@ def run_case(case_path, out_dir=None, resume: bool = False, progress: bool | Non
         }
         spectrum = {"record": ring.signals[ring.probe_signal], "dt_s": ring.dt,
                     "start_index": ring.start_index}
-        atomic_write_text(out / "case.resolved.toml", case.resolved_toml())
+        atomic_write_text(out / "case.resolved.toml", case.resolved_toml(relative_to=out))
         log.info("%d modes, %d hazards", len(modes), len(hazards))
         handler.flush()
         write_results(out, summary, spectrum, bands, log_lines=None,
                       extra_html=field_section(summary, fs, case.output.images))
         ringdown.remove_checkpoint(out)
         bar.at(1.0, "done")
+    except BaseException as exc:   # the log of a failed run ends with why
+        log.error("run failed: %s", f"{type(exc).__name__}: {exc}"
+                  if not isinstance(exc, RingprintError) else exc)
+        raise
     finally:
         bar.close()
         handler.flush()

@@ -120,6 +120,7 @@ def test_resume_refuses_a_directory_without_checkpoint(tmp_path, capsys):
     code = cli.main(["run", str(case), "--out", str(tmp_path / "empty"), "--resume", "--quiet"])
     err = capsys.readouterr().err
     assert code == 1 and "no checkpoint" in err and "Traceback" not in err
+    assert not (tmp_path / "empty").exists()       # refused before the folder was made (issue 13)
 
 
 def test_resume_refuses_another_cases_checkpoint(strip_run, tmp_path):
@@ -139,6 +140,9 @@ def test_probe_inside_a_conductor_is_refused(tmp_path, capsys):
     err = capsys.readouterr().err.strip().splitlines()
     assert code == 1 and len(err) == 1 and "touches a conductor" in err[0]
     assert not (tmp_path / "o" / "modes.json").exists()
+    # the log of the failed run ends with the error line (issue 13)
+    last = (tmp_path / "o" / "run.log").read_text().strip().splitlines()[-1]
+    assert "ERROR" in last and "run failed" in last and "touches a conductor" in last, last
 
 
 def test_output_directory_that_is_a_file(tmp_path, capsys):
