@@ -69,16 +69,22 @@ class _Progress:
 def _case_summary(case, model) -> dict:
     parts = []
     for p in model.parts:
-        parts.append({"name": p.name, "material": p.part.material_name or p.part.material.name,
+        eps_r, sigma, pec = case.medium(p.part)
+        m = p.part.material
+        parts.append({"name": p.name, "material": p.part.material_name or m.name,
+                      "eps_r": eps_r, "sigma_s_per_m": m.sigma if m.is_conductor else sigma,
+                      "loss_tangent": None if m.is_conductor else m.loss_tangent,
+                      "conductor": bool(m.is_conductor), "perfect_conductor": bool(pec),
                       "kind": ", ".join(sorted({s.kind for s in p.surfaces})),
                       "triangles": int(sum(s.n_triangles for s in p.surfaces)),
                       "volume_m3": float(sum(s.volume for s in p.surfaces)),
                       "thinner_than_a_cell": bool(p.thin)})
     stem = case.source.stem
     name = f"{case.source.parent.name}/{stem}" if stem == "case" else stem  # "tag/case", not "case"
-    return {"name": name, "title": case.title, "file": str(case.source),
+    return {"name": name, "title": case.title, "file": str(case.source), "units": case.units,
             "digest": case.digest(), "parts": parts,
-            "spectrum": {"f_min_hz": case.spectrum.f_min_hz, "f_max_hz": case.spectrum.f_max_hz}}
+            "spectrum": {"f_min_hz": case.spectrum.f_min_hz, "f_max_hz": case.spectrum.f_max_hz,
+                         "loss_at_hz": case.spectrum.loss_at_hz}}
 
 
 def _grid_summary(model) -> dict:

@@ -24,11 +24,11 @@ import numpy as np
 
 from ringprint import __version__
 from ringprint.analysis.outputs import atomic_write_text
-from ringprint.analysis.textformat import (format_frequency_pm, format_like, format_percent, format_q,
-                                           format_q_pm)
+from ringprint.analysis.textformat import (format_frequency_as_pm, format_frequency_pm, format_like,
+                                           format_percent, format_q, format_q_pm)
 from ringprint.errors import RingprintError
 
-__all__ = ["MODE_KEYS", "CSV_COLUMNS", "UNCERTAINTY_KEYS", "frequency_text", "q_text",
+__all__ = ["MODE_KEYS", "CSV_COLUMNS", "UNCERTAINTY_KEYS", "frequency_text", "q_text", "carrier_text",
            "q_over_chu_text", "basis_text", "STATUSES", "to_jsonable", "validate_bands",
            "validate_summary", "hazards_from_modes", "q_over_chu", "worst_status", "write_json",
            "write_csv", "csv_rows", "format_summary_table"]
@@ -37,7 +37,9 @@ __all__ = ["MODE_KEYS", "CSV_COLUMNS", "UNCERTAINTY_KEYS", "frequency_text", "q_
 MODE_KEYS = ("index", "frequency_hz", "q", "decay_rate_per_s", "amplitude", "error",
              "q_chu", "bands", "participation")
 #: Columns of modes.csv, in order; other scalar mode keys follow, sorted by name.
-CSV_COLUMNS = ("index", "frequency_hz", "q", "decay_rate_per_s", "amplitude", "error",
+#: (modes.json keeps "error" beside "fit_error"; the CSV shows the fit error once, as
+#: "fit_error", among the uncertainty columns.)
+CSV_COLUMNS = ("index", "frequency_hz", "q", "decay_rate_per_s", "amplitude",
                "q_chu", "q_over_chu", "confidence", "worst_status", "bands", "participation")
 #: The Q columns of the conductor-loss model (ringprint.analysis.conductor_loss) follow
 #: "q"; each part's share of the conductor loss ("part=share; ...") goes last.
@@ -338,12 +340,13 @@ def csv_rows(summary: Mapping) -> tuple[list[str], list[list[str]]]:
     modes = summary["modes"]
     extra = sorted({k for m in modes for k, v in m.items()
                     if k not in CSV_COLUMNS and (v is None or isinstance(v, (str, int, float)))})
-    extra = [k for k in extra if k not in UNCERTAINTY_KEYS]
+    extra = [k for k in extra if k not in UNCERTAINTY_KEYS and k != "error"]  # shown as fit_error
     header = list(CSV_COLUMNS) + list(UNCERTAINTY_KEYS) + extra
     rows = []
     for mode in modes:
         flat = dict(mode)
         flat["q_over_chu"] = q_over_chu(mode)
+        flat["fit_error"] = mode.get("fit_error", mode.get("error"))
         flat["worst_status"] = worst_status(mode)
         flat["bands"] = "; ".join(f"{e['band']}: {e['status']} ({e['distance_percent']:.3g} %)"
                                   for e in mode["bands"])
@@ -384,11 +387,24 @@ def _bands_hit(mode: Mapping) -> str:
     return ", ".join(hits) or "-"
 
 
-def frequency_text(mode: Mapping) -> str:
+def frequency_text(mode: Mapping, uncertainty: bool = True) -> str:
     """A mode's frequency to the digits its uncertainty supports (``"977 ± 7 MHz"``);
-    a summary without uncertainties falls back to the fit error's digits."""
-    return format_frequency_pm(mode["frequency_hz"], mode.get("frequency_uncertainty_hz"),
-                               mode.get("error"))
+    a summary without uncertainties falls back to the fit error's digits. With
+    ``uncertainty=False`` the same rounded value without the ``± ...`` (``"977 MHz"``).
+    Every table, the verdict, the CLI summary and the plots write a mode's frequency
+    with this one function."""
+    fmt = format_frequency_pm if uncertainty else format_frequency_as_pm
+    return fmt(mode["frequency_hz"], mode.get("frequency_uncertainty_hz"),
+               mode.get("fit_error", mode.get("error")))
+
+
+#: What the report and the CLI call a mode no part carries (its energy is in the air).
+NO_CARRIER = "no part (air)"
+
+
+def carrier_text(mode: Mapping) -> str:
+    """The part that carries a mode (``rings_in``), or :data:`NO_CARRIER`."""
+    return mode.get("rings_in") or NO_CARRIER
 
 
 def q_text(mode: Mapping) -> str:
@@ -397,7 +413,10 @@ def q_text(mode: Mapping) -> str:
 
 
 def q_over_chu_text(mode: Mapping) -> str:
-    """Q / Q_Chu to the digits the Q's relative uncertainty supports."""
+    """Q / Q_Chu to the digits the Q's relative uncertainty supports; ``"n/a"`` where
+    the Chu check does not apply (``chu_applies`` false: Q below 5, see the README)."""
+    if mode.get("chu_applies") is False:
+        return "n/a"
     u = mode.get("q_uncertainty")
     return format_like(q_over_chu(mode), None if u is None else u / mode["q"])
 
@@ -434,7 +453,7 @@ def format_summary_table(summary: Mapping) -> str:
         header.append("rings in")
         right.append(False)
         for r, m in zip(rows, modes):
-            r.append(m.get("rings_in") or "(air)")
+            r.append(carrier_text(m))
     widths = [max(len(r[c]) for r in rows + [header]) for c in range(len(header))]
 
     def line(cells):
