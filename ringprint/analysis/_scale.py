@@ -10,11 +10,15 @@ Two slips give absurd grids rather than bad values, so the case reader cannot se
   mm): the assembly becomes a thousand times too large and the memory estimate reads
   in terabytes; the memory refusal then says how large the model came out and which
   unit would give it a product's size.
+
+The meshing layer words its warnings in metres (SI inside); :func:`in_case_units`
+rewrites them in the case's unit, so every line a user reads speaks one unit.
 """
 
 from __future__ import annotations
 
 import contextlib
+import re
 
 import numpy as np
 
@@ -22,7 +26,7 @@ from ringprint.analysis._units import LENGTH_UNITS
 from ringprint.analysis.textformat import format_frequency
 from ringprint.errors import RingprintError
 
-__all__ = ["model_extent", "check_scale", "unit_hint"]
+__all__ = ["model_extent", "check_scale", "unit_hint", "in_case_units"]
 
 #: Sizes (m) a product's assembly plausibly spans; outside them a memory refusal hints
 #: at the ``units`` key (common practice: handheld and wearable radios, 5 mm to 1 m).
@@ -79,3 +83,16 @@ def unit_hint(case, parts):
                 + (f"if the meshes are drawn in {better}, set units = \"{better}\""
                    if better else "check the units key against the meshes"))
         raise RingprintError(f"{exc}{hint}") from None
+
+
+#: A length in metres inside a message: a number, a space, "m" as a whole word.
+_METRES = re.compile(r"(?<![\w.])([-+]?\d+(?:\.\d+)?(?:[eE][-+]?\d+)?) m\b")
+
+
+def in_case_units(text: str, case) -> str:
+    """``text`` with every ``"<number> m"`` written in the case's unit, 4 digits
+    (``"0.0015 m thick"`` -> ``"1.5 mm thick"`` in a mm case)."""
+    if case.units == "m":
+        return text
+    return _METRES.sub(lambda m: f"{float(m.group(1)) / case.unit_m:.4g} {case.units}", text)
+

@@ -218,7 +218,7 @@ def build_model(case: Case, allow_memory: bool = False, progress=None,
                 done += 1
                 if progress is not None:
                     progress(done, total, p.name)
-    notes = [str(w.message) for w in caught]
+    notes = [_scale.in_case_units(str(w.message), case) for w in caught]
     eps, sig, pec = assemble(case, grid, parts)
     free = conformal_metal(grid, parts, pec)
     return Model(case, grid, parts, eps, sig, pec, memory, notes, *free)

@@ -28,8 +28,7 @@ import scipy.fft
 import scipy.signal
 
 from ringprint.analysis.outputs import atomic_write_bytes
-from ringprint.analysis.results import frequency_text
-from ringprint.analysis.textformat import format_q
+from ringprint.analysis.results import frequency_text, q_text
 from ringprint.errors import RingprintError
 
 __all__ = ["spectrum_from_record", "check_spectrum", "render_spectrum_png",
@@ -197,7 +196,7 @@ def _worst_status(mode: Mapping) -> str:
 def render_spectrum_png(freq_hz, mag_db, modes: Sequence[Mapping] = (),
                         bands: Sequence[Mapping] = (), limits_hz: tuple[float, float] | None = None,
                         title: str = "", dpi: int = 110,
-                        db_reference: str = "its peak") -> bytes:
+                        db_reference: str = "its peak at any frequency") -> bytes:
     """Draw the spectrum with band shading and mode markers; return PNG bytes.
 
     Parameters
@@ -218,7 +217,8 @@ def render_spectrum_png(freq_hz, mag_db, modes: Sequence[Mapping] = (),
     dpi : int
         Resolution of the PNG (the figure is 9 x 4.8 inches).
     db_reference : str
-        What 0 dB is, for the axis label (default "its peak": :func:`spectrum_from_record`).
+        What 0 dB is, for the axis label (default: the peak of the whole spectrum, as
+        :func:`spectrum_from_record` scales it; it may lie outside the limits shown).
 
     Returns
     -------
@@ -282,7 +282,7 @@ def render_spectrum_png(freq_hz, mag_db, modes: Sequence[Mapping] = (),
         close = last_x is not None and (f - last_x) / (hi - lo) < 0.12
         level = (1 - level) if close else 0
         last_x = f
-        ax.annotate(f"{mode['index']}: {frequency_text(mode, False)}\nQ {format_q(mode.get('q'))}",
+        ax.annotate(f"{mode['index']}: {frequency_text(mode, False)}\nQ {q_text(mode, False)}",
                     (f / scale, y_mark), xytext=(0, 7 + 20 * level), textcoords="offset points",
                     ha="center", va="bottom", fontsize=7, linespacing=1.0)
     for status in ("inside", "near", "clear"):

@@ -407,9 +407,11 @@ def carrier_text(mode: Mapping) -> str:
     return mode.get("rings_in") or NO_CARRIER
 
 
-def q_text(mode: Mapping) -> str:
-    """A mode's Q with its uncertainty (``"43 ± 4"``), or three digits without one."""
-    return format_q_pm(mode["q"], mode.get("q_uncertainty"))
+def q_text(mode: Mapping, uncertainty: bool = True) -> str:
+    """A mode's Q with its uncertainty (``"43 ± 4"``), or three digits without one; with
+    ``uncertainty=False`` the same rounded value alone (``"43"``)."""
+    text = format_q_pm(mode["q"], mode.get("q_uncertainty"))
+    return text if uncertainty else text.split(" \u00b1 ")[0]
 
 
 def q_over_chu_text(mode: Mapping) -> str:
