@@ -1,9 +1,8 @@
 """The results of ``ringprint run``: modes.json, modes.csv, spectrum.png, report.html, run.log.
 
-:func:`write_results` writes them all into one output directory; each file appears
-only when complete (:mod:`ringprint.analysis.outputs`). The pieces (re-exported here):
-``write_json``, ``write_csv``, ``write_spectrum_png``, :func:`write_report_html`,
-``write_run_log``; ``format_summary_table`` gives the terminal table.
+:func:`write_results` writes them all, each file only when complete
+(:mod:`ringprint.analysis.outputs`). Re-exported here: ``write_json``, ``write_csv``,
+``write_spectrum_png``, ``write_run_log``, ``format_summary_table`` (the terminal table).
 
 Data model
 ----------
@@ -74,7 +73,7 @@ when absent, and ``"bands"`` -- the band list -- when absent)::
                (:func:`~ringprint.analysis.results.hazards_from_modes`).
     "run": {"steps": int, "dt_s": float, "wall_time_s": float, "memory_bytes": int,
             ...other facts, shown as given},
-    "notes": [str, ...] -- warnings of the run, shown in the report,
+    "notes": [str, ...] -- warnings of the run, shown after the hazard table,
     "uncertainty": {"basis": "grid study"|"stated bound", "stated_bound": str (what
              the stated bound rests on), "grid_study": None or {"method", "grids":
              [{"cells_per_wavelength", "cell_m", "modes_found", ...}], "ratio",
@@ -82,21 +81,17 @@ when absent, and ``"bands"`` -- the band list -- when absent)::
              indices], "unmatched": [{"mode", "reason"}]}},
     "ringprint_version": str.
 
-``bands`` (list) -- the operating bands checked:
-``[{"name": str (unique), "low_hz": float, "high_hz": float > low_hz, "source": str
-(the document the edges come from)}, ...]``; :class:`ringprint.analysis.bands.Band`
-objects are accepted too.
+``bands`` (list) -- the operating bands checked, ``[{"name": str (unique), "low_hz",
+"high_hz" > low_hz, "source": str}, ...]``, or :class:`ringprint.analysis.bands.Band` objects.
 
-``spectrum`` (dict) -- for the plot, either computed by the caller,
-``{"frequency_hz": 1-D array (strictly increasing), "magnitude_db": same shape}``, or
-a probe record for the writer to transform,
-``{"record": (n_samples,) or (n_pickups, n_samples) array, "dt_s": float,
-"start_index": int (first sample after the source has died away; default 0)}`` --
-Hann window, zero-padded 4x, pickups combined by summed power, dB re the peak
-(:func:`~ringprint.analysis.plots.spectrum_from_record`).
+``spectrum`` (dict) -- for the plot: ``{"frequency_hz": 1-D increasing array,
+"magnitude_db": same shape}``, or a probe record ``{"record": (n_samples,) or
+(n_pickups, n_samples) array, "dt_s": float, "start_index": int (default 0)}`` that
+:func:`~ringprint.analysis.plots.spectrum_from_record` transforms (Hann window, 4x zero
+padding, pickups summed in power, dB re the peak).
 
-Every check failure raises :class:`~ringprint.errors.RingprintError` naming the key
-path (e.g. ``summary.modes[2].q``) and the fix; nothing is written then.
+A failed check raises :class:`~ringprint.errors.RingprintError` naming the key path
+(``summary.modes[2].q``) and the fix; nothing is written then.
 """
 
 from __future__ import annotations
@@ -114,7 +109,8 @@ from ringprint.analysis.outputs import (atomic_write_bytes, atomic_write_text,
 from ringprint.analysis.plots import check_spectrum, render_spectrum_png, write_spectrum_png
 from ringprint.analysis.report_facts import case_facts, grid_facts, parts_rows, run_facts
 from ringprint.analysis.report_verdict import hazard_section, participation_text, verdict_html
-from ringprint.analysis.results import (basis_text, format_summary_table, frequency_text,
+from ringprint.analysis.summary_table import format_summary_table
+from ringprint.analysis.results import (basis_text, frequency_text,
                                         hazards_from_modes, q_over_chu_text, q_text,
                                         validate_bands, validate_summary, write_csv, write_json)
 from ringprint.analysis.textformat import (format_error, format_frequency, format_like,
@@ -137,8 +133,7 @@ th,td{border:1px solid #bbb;padding:.2em .6em;text-align:left;vertical-align:top
 td.num{text-align:right;font-variant-numeric:tabular-nums;white-space:nowrap}
 tr.inside td{background:#ddd;font-weight:bold} tr.near td{background:#f3f3f3}
 .safety{border:2px solid #333;padding:.6em .9em;background:#fafafa}
-.muted{color:#555} img{max-width:100%;height:auto}
-.verdict{font-size:1.15em;font-weight:bold;border-left:6px solid #333;padding:.3em .7em;background:#f3f3f3}
+.muted{color:#555} img{max-width:100%;height:auto} .verdict{font-size:1.15em;font-weight:bold;border-left:6px solid #333;padding:.3em .7em;background:#f3f3f3}
 """
 
 

@@ -25,13 +25,13 @@ import numpy as np
 from ringprint import __version__
 from ringprint.analysis.outputs import atomic_write_text
 from ringprint.analysis.textformat import (format_frequency_as_pm, format_frequency_pm, format_like,
-                                           format_percent, format_q, format_q_pm)
+                                           format_q_pm)
 from ringprint.errors import RingprintError
 
 __all__ = ["MODE_KEYS", "CSV_COLUMNS", "UNCERTAINTY_KEYS", "frequency_text", "q_text", "carrier_text",
            "q_over_chu_text", "basis_text", "STATUSES", "to_jsonable", "validate_bands",
            "validate_summary", "hazards_from_modes", "q_over_chu", "worst_status", "write_json",
-           "write_csv", "csv_rows", "format_summary_table"]
+           "write_csv", "csv_rows"]
 
 #: Keys every mode must have (the contract; keys may be added, never renamed).
 MODE_KEYS = ("index", "frequency_hz", "q", "decay_rate_per_s", "amplitude", "error",
@@ -377,16 +377,6 @@ def write_csv(path: str | os.PathLike, summary: Mapping) -> Path:
     return atomic_write_text(target, buf.getvalue())
 
 
-def _bands_hit(mode: Mapping) -> str:
-    hits = []
-    for e in sorted(mode["bands"], key=lambda e: STATUSES.index(e["status"])):
-        if e["status"] == "inside":
-            hits.append(f"{e['band']} inside")
-        elif e["status"] == "near":
-            hits.append(f"{e['band']} near ({format_percent(e['distance_percent'])})")
-    return ", ".join(hits) or "-"
-
-
 def frequency_text(mode: Mapping, uncertainty: bool = True) -> str:
     """A mode's frequency to the digits its uncertainty supports (``"977 ± 7 MHz"``);
     a summary without uncertainties falls back to the fit error's digits. With
@@ -426,41 +416,3 @@ def q_over_chu_text(mode: Mapping) -> str:
 def basis_text(mode: Mapping) -> str:
     """Where the uncertainty comes from, for tables: "grid study", "stated bound" or "-"."""
     return mode.get("uncertainty_basis") or "-"
-
-
-def format_summary_table(summary: Mapping) -> str:
-    """The plain-text table printed at the end of a run (mode, f and Q with their
-    uncertainties, Q/Chu, where the uncertainty comes from, bands hit).
-
-    When a conductor Q is known, "Q solver" (the ring-down's) and "Q cond" follow the
-    combined "Q".
-
-    Columns are aligned with spaces; numbers are right-aligned. A run with no modes
-    gives one line saying so.
-    """
-    data = validate_summary(summary)
-    modes = data["modes"]
-    if not modes:
-        return "no resonances found in the analysed spectrum"
-    header = ["mode", "frequency", "Q", "Q/Q_Chu", "uncertainty from", "bands hit"]
-    rows = [[str(m["index"]), frequency_text(m), q_text(m), q_over_chu_text(m), basis_text(m),
-             _bands_hit(m)] for m in modes]
-    right = [True, True, True, True, False, False]
-    if any(m.get("q_conductor") is not None for m in modes):
-        header[3:3] = ["Q solver", "Q cond"]
-        right[3:3] = [True, True]
-        for r, m in zip(rows, modes):
-            r[3:3] = [format_q(m.get("q_solver", m["q"])), format_q(m.get("q_conductor"))]
-    if any("rings_in" in m for m in modes):
-        header.append("rings in")
-        right.append(False)
-        for r, m in zip(rows, modes):
-            r.append(carrier_text(m))
-    widths = [max(len(r[c]) for r in rows + [header]) for c in range(len(header))]
-
-    def line(cells):
-        parts = [c.rjust(w) if r else c.ljust(w) for c, w, r in zip(cells, widths, right)]
-        return "  ".join(parts).rstrip()
-
-    rule = "  ".join("-" * w for w in widths)
-    return "\n".join([line(header), rule] + [line(r) for r in rows])

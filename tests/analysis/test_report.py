@@ -26,7 +26,8 @@ from ringprint.analysis.outputs import TEMP_MARKER
 from ringprint.analysis.plots import check_spectrum, render_spectrum_png, spectrum_from_record
 from ringprint.analysis.report import (SAFETY_NOTE, build_report_html, write_report_html,
                                        write_results)
-from ringprint.analysis.results import (CSV_COLUMNS, MODE_KEYS, format_summary_table,
+from ringprint.analysis.summary_table import format_summary_table
+from ringprint.analysis.results import (CSV_COLUMNS, MODE_KEYS,
                                         hazards_from_modes, validate_summary, write_csv,
                                         write_json)
 from ringprint.analysis.textformat import (format_bytes, format_duration, format_error,
