@@ -306,6 +306,24 @@ def test_render_without_modes_bands_or_limits_uses_whole_span():
     assert img.shape[:2] == (round(4.8 * 40), 9 * 40) and img[..., :3].std() > 0.05
 
 
+def test_spectrum_names_bands_and_gives_f_and_q_at_each_mode(monkeypatch):
+    """Issue 13: the band names on the plot itself, f and Q at every mode marker (written
+    as the tables write them), and what 0 dB is on the axis."""
+    from matplotlib.axes import Axes
+
+    texts = []
+    real_text, real_annotate, real_ylabel = Axes.text, Axes.annotate, Axes.set_ylabel
+    monkeypatch.setattr(Axes, "text", lambda self, x, y, s, *a, **k: texts.append(s) or real_text(self, x, y, s, *a, **k))
+    monkeypatch.setattr(Axes, "annotate", lambda self, s, *a, **k: texts.append(s) or real_annotate(self, s, *a, **k))
+    monkeypatch.setattr(Axes, "set_ylabel", lambda self, s, *a, **k: texts.append(s) or real_ylabel(self, s, *a, **k))
+    summary = _with_uncertainty()
+    freq, mag = spectrum_from_record(invented_record(summary), 2e-11)
+    render_spectrum_png(freq, mag, summary["modes"], BANDS, (0.8e9, 3e9), dpi=40)
+    assert "test-band-low" in texts and "test-band-high" in texts
+    assert "1: 1.235 GHz\nQ 8.4" in texts and "2: 1.80 GHz\nQ 52" in texts, texts
+    assert "probe spectrum (dB re its peak at any frequency)" in texts
+
+
 def test_spectrum_png_same_picture_as_embedded(written):
     out, _, _ = written
     parsed = _parse(out / "report.html")
@@ -449,6 +467,16 @@ def test_writers_do_not_modify_their_input(tmp_path):
 
 
 # --- text ------------------------------------------------------------------------
+
+def test_summary_table_names_the_carrier_as_the_report_does():
+    """Issue 13: one word for the carrier: 'rings in', and 'no part (air)' when none."""
+    summary = invented_summary()
+    summary["modes"][0]["rings_in"] = "frame segment"
+    summary["modes"][1]["rings_in"] = None
+    lines = format_summary_table(summary).splitlines()
+    assert lines[0].rstrip().endswith("rings in")
+    assert lines[2].rstrip().endswith("frame segment") and lines[3].rstrip().endswith("no part (air)")
+
 
 def test_summary_table_columns_are_aligned():
     table = format_summary_table(invented_summary())
