@@ -329,6 +329,16 @@ def test_tiny_min_feature_refused_for_memory(tmp_path, capsys, monkeypatch):
     assert not out.exists() or list(out.iterdir()) == []
 
 
+def test_old_key_names_are_noted_among_the_warnings(tmp_path, capsys):
+    """An old key name (absorber_cells, now cpml_cells; issue 13) still meshes, and the
+    note says so once among the warnings."""
+    case = write_small_case(tmp_path, grid="graded = false\nabsorber_cells = 8\n")
+    assert cli.main(["mesh", str(case), "--out", str(tmp_path / "out")]) == 0
+    text = capsys.readouterr().out
+    assert text.count("case key 'absorber_cells' is now called 'cpml_cells'") == 1, text
+    assert "absorbing layer 8 cells" in text
+
+
 def test_default_out_dir_is_beside_the_case(tmp_path, capsys):
     case = write_small_case(tmp_path, extra="[analysis]\nq_max = 50\n")
     assert cli.main(["mesh", str(case)]) == 0
