@@ -102,8 +102,9 @@ def verdict_text(summary: Mapping, hazards: Sequence[Mapping], bands: Sequence[M
     cover = "" if share is None else \
         f"; its half-power band {_band_text(m)} covers {_coverage_text(share)}"
     more = len(hazards) - 1
-    return (f"Worst: mode {m['index']} at {frequency_text(m)}, Q {q_text(m)}, rings in "
-            f"{carrier_text(m)}: {worst['status']} {worst['band']}, {where}{cover}."
+    rings = f", rings in {carrier_text(m)}" if "rings_in" in m else ""
+    return (f"Worst: mode {m['index']} at {frequency_text(m)}, Q {q_text(m)}{rings}: "
+            f"{worst['status']} {worst['band']}, {where}{cover}."
             + (f" {more} more hazard{'s' if more != 1 else ''} below." if more else ""))
 
 

@@ -393,8 +393,11 @@ NO_CARRIER = "no part (air)"
 
 
 def carrier_text(mode: Mapping) -> str:
-    """The part that carries a mode (``rings_in``), or :data:`NO_CARRIER`."""
-    return mode.get("rings_in") or NO_CARRIER
+    """The part that carries a mode (``rings_in``), :data:`NO_CARRIER` when none does, or
+    "not known" when the run took no mode fields (no ``rings_in`` key)."""
+    if "rings_in" not in mode:
+        return "not known (no mode fields)"
+    return mode["rings_in"] or NO_CARRIER
 
 
 def q_text(mode: Mapping, uncertainty: bool = True) -> str:

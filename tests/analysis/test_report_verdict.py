@@ -54,6 +54,15 @@ def test_verdict_names_mode_f_q_part_band_and_margin():
                            "near BLE, 5.2 % from its edge; its half-power band 1.65\u20132.92 GHz "
                            "covers all of it."), text
     assert text.endswith("1 more hazard below.") and "\n" not in text
+    # without mode fields (--no-fields) the carrier is not known: not said at all
+    bare = {k: v for k, v in m.items() if k != "rings_in"}
+    assert verdict_text({"modes": [bare]}, hazards, [GNSS, BLE]).startswith(
+        "Worst: mode 1 at 2.28 \u00b1 0.07 GHz, Q 1.8 \u00b1 0.5: near BLE, 5.2 % from its edge")
+    # inside a band: how deep
+    inside = {**m, "bands": [{"band": "BLE", "status": "inside", "distance_percent": -1.2}]}
+    assert "inside BLE, 1.2 % inside it" in verdict_text(
+        {"modes": [inside]}, [{"mode": 1, "band": "BLE", "status": "inside", "distance_percent": -1.2,
+                              "rank": 1}], [BLE])
     assert "No band hazard" in verdict_text({"modes": [m]}, [], [GNSS])
     assert "No resonance" in verdict_text({"modes": []}, [], [GNSS])
 
