@@ -243,9 +243,12 @@ def run_case(case_path, out_dir=None, resume: bool = False, progress: bool | Non
                       extra_html=field_section(summary, fs, case.output.images))
         ringdown.remove_checkpoint(out)
         bar.at(1.0, "done")
-    except BaseException as exc:   # the log of a failed run ends with why
-        log.error("run failed: %s", f"{type(exc).__name__}: {exc}"
-                  if not isinstance(exc, RingprintError) else exc)
+    except BaseException as exc:   # the log of a failed (or halted) run ends with why
+        if isinstance(exc, ringdown.RunHalted):
+            log.warning("%s", exc)
+        else:
+            log.error("run failed: %s", exc if isinstance(exc, RingprintError)
+                      else f"{type(exc).__name__}: {exc}")
         raise
     finally:
         bar.close()

@@ -134,6 +134,14 @@ def test_resume_refuses_another_cases_checkpoint(strip_run, tmp_path):
         run_case(changed, out, resume=True, progress=False, echo=None)
 
 
+def test_a_halted_run_says_so_in_its_log(tmp_path):
+    """A run stopped on purpose (halt_after_steps) is not logged as failed (issue 13)."""
+    with pytest.raises(RunHalted):
+        run_case(_case(tmp_path), tmp_path / "o", progress=False, echo=None, halt_after_steps=20)
+    log = (tmp_path / "o" / "run.log").read_text()
+    assert "run halted after step" in log.strip().splitlines()[-1] and "run failed" not in log
+
+
 def test_probe_inside_a_conductor_is_refused(tmp_path, capsys):
     case = _case(tmp_path, extra='[probe]\nat = [0.0, 0.0, 0.0]\nnormal = "z"\nsize = 2.0\n')
     code = cli.main(["run", str(case), "--out", str(tmp_path / "o"), "--quiet"])
