@@ -33,6 +33,8 @@ class Checker:
         self.top_keys = tuple(top_keys)      # for the hint on a top-level key written too late
         self.lines = KeyLines(text)
         self.labels: dict[tuple, str] = {}   # ("part", 1) -> the part's name, for messages
+        self.notes: list[str] = []           # deprecation notes, each once (see renamed)
+        self.written: dict[tuple, tuple] = {}  # key path under its new name -> as written
 
     # -- messages ---------------------------------------------------------------
     def label(self, path: tuple, table) -> None:
@@ -63,6 +65,10 @@ class Checker:
         return " ".join(t for t in (head, text) if t) or "top level"
 
     def fail(self, path: tuple, problem: str) -> NoReturn:
+        path = tuple(path)
+        for new, old in self.written.items():   # a renamed key: cite it as written
+            if path[:len(new)] == new:
+                path = old + path[len(new):]
         raise RingprintError(f"{self.file}:{self.lines.line(path)}: {self.where(path)}: {problem}")
 
     # -- structure --------------------------------------------------------------
@@ -81,6 +87,25 @@ class Checker:
                             "[table] header")
                 self.fail(path + (key,), f"unknown key; {hint}")
         return value
+
+    def renamed(self, table, path: tuple, old: str, new: str):
+        """``table`` with a key written under its old name ``old`` moved to ``new``.
+
+        The old name keeps working; one note per old name (however often it is used)
+        goes to :attr:`notes`, for the run log and ``ringprint mesh``. Both names in
+        one table is an error.
+        """
+        if not isinstance(table, dict) or old not in table:
+            return table
+        if new in table:
+            self.fail(path + (old,), f"'{old}' is the old name of '{new}', which is given "
+                      f"too; keep only {new} = ...")
+        note = (f"{self.file}: case key '{old}' is now called '{new}'; the old name still "
+                f"works for now, rename it")
+        if note not in self.notes:
+            self.notes.append(note)
+        self.written[tuple(path) + (new,)] = tuple(path) + (old,)
+        return {(new if key == old else key): value for key, value in table.items()}
 
     def require(self, table: dict, key: str, path: tuple):
         if key not in table:

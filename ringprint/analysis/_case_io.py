@@ -7,6 +7,7 @@ from __future__ import annotations
 
 import hashlib
 import json
+import os
 import re
 from typing import TYPE_CHECKING
 
@@ -51,23 +52,35 @@ def _material(part: Part):
     return out
 
 
-def resolved_dict(case: Case) -> dict:
-    """The case with every default filled in, lengths in the user's unit."""
+def _file_text(path, relative_to) -> str:
+    """A part's file as written in the resolved case: relative to ``relative_to`` (the
+    folder the resolved file goes to) when given, else absolute; always with ``/``."""
+    if relative_to is None:
+        return path.as_posix()
+    try:
+        return os.path.relpath(path, os.path.abspath(relative_to)).replace(os.sep, "/")
+    except ValueError:  # another drive (Windows): keep the absolute path
+        return path.as_posix()
+
+
+def resolved_dict(case: Case, relative_to=None) -> dict:
+    """The case with every default filled in, lengths in the user's unit; part files
+    relative to the folder ``relative_to`` when given (see :func:`_file_text`)."""
     unit = case.unit_m
 
     def length(v):
         return to_user_length(v, unit)
 
-    out: dict = {"title": case.title, "units": case.units, "bands": list(case.band_presets)}
+    out: dict = {"title": case.title, "units": case.units, "band_presets": list(case.band_presets)}
     sp = case.spectrum
     out["spectrum"] = {"f_min": format_frequency(sp.f_min_hz), "f_max": format_frequency(sp.f_max_hz),
                        "loss_at": format_frequency(sp.loss_at_hz)}
     # parts made by [[assembly]] rules are written out as one [[part]] per body
     out["part"] = [{
-        "name": p.name, "file": p.file.as_posix(), **({"body": p.body} if p.body is not None else {}),
+        "name": p.name, "file": _file_text(p.file, relative_to), **({"body": p.body} if p.body is not None else {}),
         "material": _material(p), "translate": [length(v) for v in p.translate_m],
         "rotate": {"axis": list(p.rotate_axis), "degrees": p.rotate_degrees},
-        "scale": p.scale, "mirror": p.mirror or "none", "priority": p.priority,
+        "scale": p.scale, "mirror": p.mirror or "none", "overlap_rank": p.overlap_rank,
     } for p in case.parts]
     if case.custom_bands:
         out["band"] = [{"name": b.name, "low": format_frequency(b.low_hz),
@@ -78,7 +91,7 @@ def resolved_dict(case: Case) -> dict:
                         "size": length(case.probe.size_m)}
     out["grid"] = {"cells_per_wavelength": case.grid.cells_per_wavelength,
                    "padding": length(case.grid.padding_m),
-                   "absorber_cells": case.grid.absorber_cells, "graded": case.grid.graded,
+                   "cpml_cells": case.grid.absorber_cells, "graded": case.grid.graded,
                    "min_feature": length(case.grid.min_feature_m)}
     out["analysis"] = {"q_max": case.analysis.q_max,
                        "detuning_margin": case.analysis.detuning_margin,
@@ -88,9 +101,17 @@ def resolved_dict(case: Case) -> dict:
     return out
 
 
+#: A multi-line array of plain values (numbers, strings without brackets) as tomli_w writes it.
+_LONG_ARRAY = re.compile(r"\[\n((?:[ \t]+[^\[\]{}\n]+,\n)+)\]")
+
+
 def to_toml(resolved: dict) -> str:
+    """The resolved case as TOML, every vector on one line (``translate = [0.0, 0.0, 1.5]``)."""
     header = "# The case as run: every default filled in (written by ringprint).\n"
-    return header + tomli_w.dumps(resolved)
+    text = tomli_w.dumps(resolved)
+    text = _LONG_ARRAY.sub(lambda m: "[" + ", ".join(
+        item.strip().rstrip(",") for item in m.group(1).splitlines()) + "]", text)
+    return header + text
 
 
 def _file_sha256(path) -> str:
@@ -122,7 +143,7 @@ def digest(case: Case) -> str:
             sha[p.file] = _file_sha256(p.file)
         parts.append({"name": p.name, "file_sha256": sha[p.file],
                       "matrix": p.matrix().tolist(), "eps_r": eps_r,
-                      "sigma": sigma, "pec": pec, "priority": p.priority})
+                      "sigma": sigma, "pec": pec, "priority": p.overlap_rank})  # key kept: digests stay
         if p.body is not None:  # only then: digests of one-file-per-part cases stay as they were
             parts[-1]["body"] = p.body
     probe = None if case.probe is None else \

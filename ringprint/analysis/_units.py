@@ -3,7 +3,11 @@
 Lengths: the case file names one unit for every length in it and in its meshes.
 Frequencies: a number is in hertz; a string carries its unit (``"2.4 GHz"``,
 ``"600MHz"``, ``"433.92e6 Hz"``). Unit names are matched without regard to case
-(``"ghz"`` is GHz; nobody analyses antennas in millihertz).
+(``"ghz"`` is GHz, ``"mhz"`` is MHz), except the one spelling that means something
+else in SI: ``"mHz"`` (millihertz) is refused with a "did you mean MHz?" hint rather
+than silently read as megahertz. A bare number below :data:`MIN_BARE_HZ` (1 MHz) is
+refused too: it is almost always a frequency written in MHz or GHz without its unit
+(``f_min = 700``), and no part that fits in a product rings that low.
 """
 
 from __future__ import annotations
@@ -21,6 +25,10 @@ LENGTH_UNITS: dict[str, float] = {
 
 #: hertz per unit.
 FREQUENCY_UNITS: dict[str, float] = {"hz": 1.0, "khz": 1e3, "mhz": 1e6, "ghz": 1e9}
+
+#: Smallest frequency a bare number (no unit) may give, in Hz: below it the number is
+#: taken for a forgotten unit. At 1 MHz the free-space wavelength is 300 m.
+MIN_BARE_HZ = 1e6
 
 _QUANTITY = re.compile(r"^\s*([-+]?(?:\d+\.?\d*|\.\d+)(?:[eE][-+]?\d+)?)\s*([A-Za-z]*)\s*$")
 
@@ -42,21 +50,29 @@ def parse_frequency(value) -> float:
         if not match:
             raise ValueError(f"cannot read {value!r} as a frequency; write e.g. \"2.4 GHz\"")
         number, unit = float(match.group(1)), (match.group(2) or "hz").lower()
+        if match.group(2)[:1] == "m" and unit == "mhz" and match.group(2) != "mhz":
+            raise ValueError(f"{value!r} reads as millihertz (SI 'mHz'); did you mean "
+                             f"\"{match.group(1)} MHz\" (megahertz, capital M)?")
         if unit not in FREQUENCY_UNITS:
             raise ValueError(f"unknown frequency unit {match.group(2)!r}; use Hz, kHz, MHz or GHz")
         hz = number * FREQUENCY_UNITS[unit]
     else:
         hz = float(value)
+        if math.isfinite(hz) and 0 < hz < MIN_BARE_HZ:
+            raise ValueError(f"a bare number is in hertz, and {value!r} Hz is far below any "
+                             f"resonance of a product's parts; write the unit, e.g. "
+                             f"\"{value:g} MHz\" or \"{value:g} GHz\"")
     if not math.isfinite(hz):
         raise ValueError("frequency must be finite")
     return hz
 
 
-def format_frequency(hz: float) -> str | float:
+def format_frequency(hz: float) -> str:
     """Write ``hz`` as a short string with a unit that reads back exactly.
 
     The largest of GHz/MHz/kHz in which the value is at least 1 and round-trips
-    through :func:`parse_frequency` bit for bit is used; otherwise the number in Hz.
+    through :func:`parse_frequency` bit for bit is used; otherwise ``"... Hz"`` (a string
+    too: a bare number below 1 MHz would not read back).
     """
     for unit, name in ((1e9, "GHz"), (1e6, "MHz"), (1e3, "kHz")):
         scaled = hz / unit
@@ -64,7 +80,7 @@ def format_frequency(hz: float) -> str | float:
             text = f"{scaled!r} {name}"
             if parse_frequency(text) == hz:
                 return text
-    return float(hz)
+    return f"{float(hz)!r} Hz"
 
 
 def to_user_length(metres: float, factor: float) -> float:

@@ -5,7 +5,7 @@ A product arrives as one STEP file with every body in it. In the case file::
     [[assembly]]
     file = "handset.step"           # relative to the case file
     prefix = "hs-"                  # optional: put before every part name made here
-    priority = 0                    # optional: default priority of the rules below
+    overlap_rank = 0                # optional: default overlap rank of the rules below
     translate = [0, 0, 0]           # optional placement of the whole file, as for a part
     rotate = { axis = [0, 0, 1], degrees = 0 }          # (also scale, mirror)
 
@@ -13,7 +13,7 @@ A product arrives as one STEP file with every body in it. In the case file::
     match = "frame*"                # a name pattern, or a list of them
     material = "aluminium"          # as for a part, or "skip" to leave the bodies out
     prefix = "frame-"               # optional, instead of the assembly's prefix
-    priority = 2                    # optional, instead of the assembly's priority
+    overlap_rank = 2                # optional, instead of the assembly's overlap_rank
 
 Rules applied (when the case file is read, from the body names alone; the bodies are
 tessellated later, when the case is meshed):
@@ -52,8 +52,8 @@ AXES = ("x", "y", "z")
 #: The material word of a rule whose bodies are left out of the model.
 SKIP = "skip"
 PLACEMENT_KEYS = ("translate", "rotate", "scale", "mirror")
-ASSEMBLY_KEYS = ("file", "prefix", "priority", "rule") + PLACEMENT_KEYS
-RULE_KEYS = ("match", "material", "prefix", "priority")
+ASSEMBLY_KEYS = ("file", "prefix", "overlap_rank", "rule") + PLACEMENT_KEYS
+RULE_KEYS = ("match", "material", "prefix", "overlap_rank")
 #: Names shown in one message before "and N more".
 SHOWN = 12
 
@@ -61,12 +61,12 @@ SHOWN = 12
 @dataclass(frozen=True)
 class Taken:
     """One body a rule takes: the body's name, the part's name, the rule's key path
-    (for messages and the rule's material) and the part's priority."""
+    (for messages and the rule's material) and the part's overlap rank."""
 
     body: str
     name: str
     rule: tuple
-    priority: int
+    overlap_rank: int
     material: object               #: the rule's material value as written
 
 
@@ -140,7 +140,7 @@ def expand(ck, table: dict, here: tuple, file: Path) -> list[Taken]:
     """
     names = body_names(ck, file, here + ("file",))
     prefix = ck.string(table["prefix"], here + ("prefix",)) if "prefix" in table else ""
-    priority = ck.number(table.get("priority", 0), here + ("priority",), integer=True)
+    rank = ck.number(table.get("overlap_rank", 0), here + ("overlap_rank",), integer=True)
     rules = table.get("rule")
     if not isinstance(rules, list) or not rules:
         ck.fail(here, f"no [[assembly.rule]] tables; add one per group of bodies, e.g. "
@@ -148,17 +148,18 @@ def expand(ck, table: dict, here: tuple, file: Path) -> list[Taken]:
     winner: dict[str, Taken] = {}
     for j, rule in enumerate(rules):
         where = here + ("rule", j)
+        rule = ck.renamed(rule, where, "priority", "overlap_rank")
         ck.table(rule, where, RULE_KEYS)
         ck.require(rule, "material", where)
         own_prefix = ck.string(rule["prefix"], where + ("prefix",)) if "prefix" in rule else prefix
-        own_priority = ck.number(rule.get("priority", priority), where + ("priority",), integer=True)
+        own_rank = ck.number(rule.get("overlap_rank", rank), where + ("overlap_rank",), integer=True)
         for pattern, at in _patterns(ck, rule, where):
             hits = [b for b in names if fnmatch.fnmatchcase(b.lower(), pattern.lower())]
             if not hits:
                 ck.fail(at, f"{pattern!r} matches none of the {len(names)} bodies of {file.name} "
                         f"({name_list(names)}); correct the pattern or remove it")
             for body in hits:
-                winner.setdefault(body, Taken(body, own_prefix + body, where, own_priority, rule["material"]))
+                winner.setdefault(body, Taken(body, own_prefix + body, where, own_rank, rule["material"]))
     left = [b for b in names if b not in winner]
     if left:
         ck.fail(here + ("file",), f"{len(left)} of the {len(names)} bodies of {file.name} match no "

@@ -49,7 +49,8 @@ import numpy as np
 from ringprint.errors import RingprintError
 
 __all__ = ["Band", "BandJudgement", "DEFAULT_MARGIN", "INSIDE", "NEAR", "CLEAR",
-           "STATUS_NAMES", "preset_names", "preset_bands", "judge", "rank_hazards"]
+           "STATUS_NAMES", "preset_names", "preset_bands", "preset_renamed", "judge",
+           "rank_hazards"]
 
 #: Default detuning margin as a fraction (3 %; see the module docstring for why).
 DEFAULT_MARGIN = 0.03
@@ -109,6 +110,19 @@ def _presets() -> dict[str, tuple[Band, ...]]:
     return out
 
 
+@functools.cache
+def _aliases() -> dict[str, str]:
+    """Old preset name -> its name now (``"wifi-5g"`` -> ``"wifi-5ghz"``)."""
+    text = resources.files("ringprint.analysis").joinpath("data/bands.toml").read_text("utf-8")
+    return {old: name for name, table in tomllib.loads(text)["preset"].items()
+            for old in table.get("aliases", [])}
+
+
+def preset_renamed(name: str) -> str | None:
+    """The name a renamed preset has now, or None when ``name`` is not an old name."""
+    return _aliases().get(str(name).strip().lower())
+
+
 def preset_names() -> tuple[str, ...]:
     """Every name a case file may select: presets, their -ul/-dl halves and groups."""
     return tuple(sorted(_presets()))
@@ -124,6 +138,7 @@ def preset_bands(name: str) -> tuple[Band, ...]:
     """
     presets = _presets()
     key = str(name).strip().lower()
+    key = _aliases().get(key, key)
     if key in presets:
         return presets[key]
     close = difflib.get_close_matches(key, list(presets), n=3)

@@ -5,13 +5,13 @@ unit such as ``"2.4 GHz"``)::
 
     title = "Asset tag"                 # optional; default: the file name without suffix
     units = "mm"                        # required: m, cm, mm, um, in or mil
-    bands = ["lte-b7", "gps-l1"]        # optional: band presets (ringprint.analysis.bands)
+    band_presets = ["lte-b7", "gps-l1"] # optional: band presets (ringprint.analysis.bands)
 
     [spectrum]                          # required
     f_min = "0.6 GHz"
     f_max = "6 GHz"
     loss_at = "1.9 GHz"                 # optional: where loss tangents hold exactly
-                                        # (default sqrt(f_min f_max), see materials)
+                                        # (default sqrt(f_min f_max) to 4 digits, see materials)
     [[part]]                            # one or more
     name = "housing"
     file = "tag/housing.step"           # relative to the case file
@@ -25,11 +25,11 @@ unit such as ``"2.4 GHz"``)::
     rotate = { axis = [0, 0, 1], degrees = 0 }          # optional, about the origin
     scale = 1.0                         # optional
     mirror = "none"                     # optional: "x", "y", "z" (negate that coordinate)
-    priority = 0                        # optional: where parts overlap, the higher wins
+    overlap_rank = 0                    # optional: where parts overlap, the higher wins
     body = "Frame Left"                 # optional: only this body of a file holding several
 
     [[assembly]]                        # optional: one file, many bodies, parts by name rules
-    file = "tag/handset.step"           # (placement keys and priority as for a part;
+    file = "tag/handset.step"           # (placement keys and overlap_rank as for a part;
     prefix = ""                         #  see ringprint.analysis.assembly for the rules)
     [[assembly.rule]]                   # one or more, first match wins
     match = "frame*"                    # shell-style name pattern, any case; or a list
@@ -48,7 +48,7 @@ unit such as ``"2.4 GHz"``)::
     [grid]                              # optional
     cells_per_wavelength = 20           # n, in the densest material at f_max
     padding = 15.0                      # default lambda/(2 pi) at sqrt(f_min f_max)
-    absorber_cells = 10                 # thickness of the absorbing layer, in cells
+    cpml_cells = 10                     # thickness of the absorbing layer (CPML), in cells
     graded = true                       # grade the grid to the parts (false: uniform)
     min_feature = 0.25                  # walls, gaps, slots thinner than this stay sub-cell
                                         # (default: a tenth of the air cell, c0/(10 f_max n))
@@ -66,6 +66,9 @@ unit such as ``"2.4 GHz"``)::
     field_memory = 1024                 # MiB the mode fields may take (coarser lattice beyond)
 
 At least one part, from ``[[part]]`` or ``[[assembly]]``; part names are unique.
+Renamed keys (the old name still works, with a note in ``Case.notes``): ``bands`` ->
+``band_presets``, ``priority`` -> ``overlap_rank``, ``[grid] absorber_cells`` ->
+``cpml_cells`` (the name modes.json uses).
 A part's mesh coordinates (in ``units``) are scaled, then mirrored, rotated about the
 origin and translated, in that order (:meth:`Part.matrix`).
 
@@ -87,15 +90,16 @@ from scipy.constants import c as C0
 
 from ringprint.analysis import _case_io, assembly
 from ringprint.analysis._case_checks import Checker
+from ringprint.analysis._case_material import read_material
 from ringprint.analysis._units import LENGTH_UNITS
-from ringprint.analysis.bands import DEFAULT_MARGIN, Band, preset_bands
-from ringprint.analysis.materials import Material, conversion_frequency, get_material
+from ringprint.analysis.bands import DEFAULT_MARGIN, Band, preset_bands, preset_renamed
+from ringprint.analysis.materials import Material, conversion_frequency
 from ringprint.analysis.uncertainty import check_grid_study
 from ringprint.errors import RingprintError
 
 __all__ = ["Case", "Part", "Probe", "Spectrum", "Grid", "Analysis", "Output", "load_case"]
 
-TOP_KEYS = ("title", "units", "bands", "spectrum", "part", "assembly", "band", "probe", "grid",
+TOP_KEYS = ("title", "units", "band_presets", "spectrum", "part", "assembly", "band", "probe", "grid",
             "analysis", "output")
 AXES = assembly.AXES
 #: Default memory for the mode fields (MiB), case key output.field_memory.
@@ -125,7 +129,7 @@ class Part:
     rotate_degrees: float = 0.0
     scale: float = 1.0
     mirror: str | None = None      #: "x", "y", "z" or None
-    priority: int = 0
+    overlap_rank: int = 0          #: where parts overlap, the higher rank wins
     body: str | None = None        #: the one body of ``file`` this part is; None: all of them
 
     def matrix(self) -> np.ndarray:
@@ -202,6 +206,7 @@ class Case:
     grid: Grid
     analysis: Analysis
     output: Output
+    notes: tuple[str, ...] = ()    #: deprecation notes (old key names), each once
 
     @property
     def bands(self) -> tuple[Band, ...]:
@@ -215,13 +220,15 @@ class Case:
             return 1.0, 0.0, True
         return m.eps_r, m.conductivity(self.spectrum.loss_at_hz), False
 
-    def resolved(self) -> dict:
-        """The case as it will be run, all defaults filled in, in the user's units."""
-        return _case_io.resolved_dict(self)
+    def resolved(self, relative_to=None) -> dict:
+        """The case as it will be run, all defaults filled in, in the user's units (part
+        files relative to the folder ``relative_to`` when given, else absolute)."""
+        return _case_io.resolved_dict(self, relative_to)
 
-    def resolved_toml(self) -> str:
-        """:meth:`resolved` as TOML text (for ``case.resolved.toml``); loads back to the same case."""
-        return _case_io.to_toml(self.resolved())
+    def resolved_toml(self, relative_to=None) -> str:
+        """:meth:`resolved` as TOML text (for ``case.resolved.toml`` in the folder
+        ``relative_to``); loads back to the same case."""
+        return _case_io.to_toml(self.resolved(relative_to))
 
     def digest(self) -> str:
         """Stable SHA-256 (hex) of everything that changes the simulated fields.
@@ -264,10 +271,11 @@ def load_case(path: str | os.PathLike) -> Case:
         data = tomllib.loads(text)
     except tomllib.TOMLDecodeError as exc:
         raise RingprintError(_case_io.syntax_message(display, str(exc))) from None
-    return _build(Checker(display, text, TOP_KEYS), data, source)
+    return _build(Checker(display, text, TOP_KEYS + ("bands",)), data, source)
 
 
 def _build(ck: Checker, data: dict, source: Path) -> Case:
+    data = ck.renamed(data, (), "bands", "band_presets")
     ck.table(data, (), TOP_KEYS)
     title = ck.string(data["title"], ("title",)) if "title" in data else source.stem
     units = ck.choice(ck.require(data, "units", ()), ("units",), LENGTH_UNITS)
@@ -293,7 +301,7 @@ def _build(ck: Checker, data: dict, source: Path) -> Case:
                         table.get("field_memory", DEFAULT_FIELD_MEMORY_MB), ("output", "field_memory"),
                         hint="mebibytes, e.g. 1024"))
     return Case(source, title, units, unit, spectrum, parts, presets, custom, probe, grid,
-                analysis, output)
+                analysis, output, tuple(ck.notes))
 
 
 #: Widest f_max / f_min one run covers: the source pulse (a Gaussian-modulated sine,
@@ -312,12 +320,13 @@ def _spectrum(ck: Checker, table) -> Spectrum:
         ck.fail(("spectrum", "f_max"), f"f_max / f_min = {f_max / f_min:.3g} is above {MAX_SPAN:g}: one "
                 "pulse cannot drive the whole span (its low end falls below -20 dB); split it "
                 "into two cases, e.g. up to and above the geometric mean")
+    # the default, sqrt(f_min f_max), to 4 digits: the resolved case shows what was used
     loss_at = ck.frequency(table["loss_at"], ("spectrum", "loss_at")) if "loss_at" in table \
-        else conversion_frequency(f_min, f_max)
+        else float(f"{conversion_frequency(f_min, f_max):.4g}")
     return Spectrum(f_min, f_max, loss_at)
 
 
-PART_KEYS = ("name", "file", "material", "body") + assembly.PLACEMENT_KEYS + ("priority",)
+PART_KEYS = ("name", "file", "material", "body") + assembly.PLACEMENT_KEYS + ("overlap_rank",)
 
 
 def _parts(ck: Checker, data: dict, folder: Path, unit: float) -> tuple[Part, ...]:
@@ -333,6 +342,7 @@ def _parts(ck: Checker, data: dict, folder: Path, unit: float) -> tuple[Part, ..
     for i, table in enumerate(value or []):
         here = ("part", i)
         ck.label(here, table)
+        table = ck.renamed(table, here, "priority", "overlap_rank")
         ck.table(table, here, PART_KEYS)
         name = ck.string(ck.require(table, "name", here), here + ("name",))
         if name in seen:
@@ -354,15 +364,16 @@ def _part(ck: Checker, table: dict, here: tuple, name: str, folder: Path, unit: 
         if body not in names:
             ck.fail(here + ("body",), f"{file.name} holds no body named {body!r}; its bodies are "
                     f"{assembly.name_list(names)}")
-    material, material_name = _material(ck, ck.require(table, "material", here),
+    material, material_name = read_material(ck, ck.require(table, "material", here),
                                         here + ("material",))
     placement = assembly.placement(ck, table, here, unit)
-    priority = ck.number(table.get("priority", 0), here + ("priority",), integer=True)
-    return Part(name, file, material, material_name, unit, **placement, priority=priority, body=body)
+    rank = ck.number(table.get("overlap_rank", 0), here + ("overlap_rank",), integer=True)
+    return Part(name, file, material, material_name, unit, **placement, overlap_rank=rank, body=body)
 
 
 def _assembly(ck: Checker, table, here: tuple, folder: Path, unit: float, seen: dict) -> list[Part]:
     """The parts of one ``[[assembly]]`` (rules: :mod:`ringprint.analysis.assembly`)."""
+    table = ck.renamed(table, here, "priority", "overlap_rank")
     ck.table(table, here, assembly.ASSEMBLY_KEYS)
     file = assembly.part_file(ck, table, here, folder)
     ck.labels[here] = file.name
@@ -378,56 +389,27 @@ def _assembly(ck: Checker, table, here: tuple, folder: Path, unit: float, seen: 
                     "or the assembly, or rename the other part")
         seen[taken.name] = f"{ck.where(here)} body {taken.body!r}"
         if taken.rule not in materials:
-            materials[taken.rule] = _material(ck, written, taken.rule + ("material",))
+            materials[taken.rule] = read_material(ck, written, taken.rule + ("material",))
         parts.append(Part(taken.name, file, *materials[taken.rule], unit, **placement,
-                          priority=taken.priority, body=taken.body))
+                          overlap_rank=taken.overlap_rank, body=taken.body))
     return parts
 
 
-MATERIAL_KEYS = ("name", "eps_r", "loss_tangent", "sigma", "conductor", "at", "mu_r")
-
-
-def _material(ck: Checker, value, here: tuple) -> tuple[Material, str | None]:
-    try:
-        if isinstance(value, str):
-            return get_material(value), value
-        if not isinstance(value, dict):
-            ck.fail(here, 'expected a library name such as "abs" or a table '
-                    "{ eps_r = ..., loss_tangent = ... }")
-        table = ck.table(value, here, MATERIAL_KEYS)
-        conductor = ck.boolean(table.get("conductor", False), here + ("conductor",))
-        if conductor and "sigma" in table:
-            ck.number(table["sigma"], here + ("sigma",), low=0.0, low_open=True,
-                      hint='a conductor\'s sigma is its conductivity in S/m; leave sigma out '
-                      '(or use material = "pec") for the lossless perfect conductor')
-        if "mu_r" in table and not conductor:
-            ck.fail(here + ("mu_r",), "mu_r is for conductors only (set conductor = true) "
-                    "or remove it")
-        lowest = {"eps_r": 1.0, "loss_tangent": 0.0, "sigma": 0.0, "mu_r": 1.0}
-        values = {key: ck.number(table[key], here + (key,), low=low)
-                  for key, low in lowest.items() if key in table}
-        at = ck.frequency(table["at"], here + ("at",)) if "at" in table else None
-        name = ck.string(table.get("name", "custom"), here + ("name",))
-        if not conductor and "eps_r" not in values:
-            ck.fail(here, "a dielectric needs eps_r (or set conductor = true)")
-        return Material(name, frequency_hz=at, is_conductor=conductor, **values), None
-    except RingprintError as exc:
-        if str(exc).startswith(f"{ck.file}:"):
-            raise
-        ck.fail(here, str(exc))
-
-
 def _bands(ck: Checker, data: dict) -> tuple[tuple[str, ...], tuple[Band, ...]]:
-    names = data.get("bands", [])
+    names = data.get("band_presets", [])
     if not isinstance(names, list):
-        ck.fail(("bands",), "expected a list of preset names, e.g. [\"lte-b7\", \"gps-l1\"]")
+        ck.fail(("band_presets",), "expected a list of preset names, e.g. [\"lte-b7\", \"gps-l1\"]")
     taken: set[str] = set()
     for i, name in enumerate(names):
-        ck.string(name, ("bands", i))
+        ck.string(name, ("band_presets", i))
         try:
-            taken.update(b.name for b in preset_bands(name))
+            bands = preset_bands(name)
         except RingprintError as exc:
-            ck.fail(("bands", i), str(exc))
+            ck.fail(("band_presets", i), str(exc))
+        taken.update(b.name for b in bands)
+        if preset_renamed(name):
+            ck.notes.append(f"{ck.file}: band preset {name!r} is now called "
+                            f"{preset_renamed(name)!r}; the old name still works for now, rename it")
     custom = data.get("band", [])
     if not isinstance(custom, list):
         ck.fail(("band",), "write each custom band as its own [[band]] table (double brackets)")
@@ -446,11 +428,12 @@ def _bands(ck: Checker, data: dict) -> tuple[tuple[str, ...], tuple[Band, ...]]:
             ck.fail(here + ("low",), f"low ({low:g} Hz) must be below high ({high:g} Hz)")
         source = ck.string(table.get("source", "case file"), here + ("source",))
         bands.append(Band(name, low, high, source))
-    return tuple(names), tuple(bands)
+    return tuple(preset_renamed(n) or n for n in names), tuple(bands)
 
 
 def _grid(ck: Checker, table, spectrum: Spectrum, unit: float) -> Grid:
-    ck.table(table, ("grid",), ("cells_per_wavelength", "padding", "absorber_cells", "graded",
+    table = ck.renamed(table, ("grid",), "absorber_cells", "cpml_cells")
+    ck.table(table, ("grid",), ("cells_per_wavelength", "padding", "cpml_cells", "graded",
                                 "min_feature"))
     cells = ck.number(table.get("cells_per_wavelength", 20), ("grid", "cells_per_wavelength"),
                       low=10.0, hint="the solver needs at least 10 cells per wavelength in the "
@@ -458,7 +441,7 @@ def _grid(ck: Checker, table, spectrum: Spectrum, unit: float) -> Grid:
     centre = math.sqrt(spectrum.f_min_hz * spectrum.f_max_hz)
     padding = ck.positive(table["padding"], ("grid", "padding")) * unit if "padding" in table \
         else C0 / (2 * math.pi * centre)
-    absorber = ck.number(table.get("absorber_cells", 10), ("grid", "absorber_cells"),
+    absorber = ck.number(table.get("cpml_cells", 10), ("grid", "cpml_cells"),
                          low=4, integer=True, hint="4-16 cells is common practice")
     graded = ck.boolean(table.get("graded", True), ("grid", "graded"))
     min_feature = ck.positive(table["min_feature"], ("grid", "min_feature"),

@@ -20,8 +20,10 @@ from pathlib import Path
 import numpy as np
 
 from ringprint import fdtd, meshing
-from ringprint.analysis import ringdown, voxel_image
+from ringprint.analysis import placement, ringdown, voxel_image
+from ringprint.analysis.field_plots import probe_corners
 from ringprint.analysis.case import Case, load_case
+from ringprint.analysis.mode_fields import loop_side_m
 from ringprint.analysis.model import Model, build_model
 from ringprint.analysis.outputs import atomic_path, prepare_output_dir
 from ringprint.analysis.textformat import format_bytes, format_duration, format_frequency, format_si
@@ -115,27 +117,26 @@ def _part_rows(model: Model, owners: np.ndarray) -> list[str]:
         lo = np.min([s.bounds[0] for s in p.surfaces], axis=0)
         hi = np.max([s.bounds[1] for s in p.surfaces], axis=0)
         size = " x ".join(_length(h - lo_, case) for lo_, h in zip(lo, hi))
-        eps, sigma, is_pec = case.medium(p.part)
         material = p.part.material_name or p.part.material.name
-        medium = "perfect conductor" if is_pec else f"eps_r {eps:g}, sigma {sigma:.3g} S/m"
+        medium = _medium(case, p.part)
         bodies = f"{len(p.surfaces)} bodies, " if len(p.surfaces) > 1 else ""
         kind = {("solid",): "closed solid", ("sheet",): "open sheet"}.get(tuple(kinds), "+".join(kinds))
         line = f"  {i + 1}. {p.name}: {bodies}{triangles} triangles, {kind}"
         n_cells = int(counts[i + 1])
+        volume = sum(s.volume for s in p.surfaces) / case.unit_m ** 3
+        notes = []
         if not voxel_image.shows_crossed_cells(p):
-            volume = sum(s.volume for s in p.surfaces) / case.unit_m ** 3
             voxels = owned[i + 1] / case.unit_m ** 3
-            # the mesh volume is exact (divergence theorem): enough digits to show it
-            line += f", volume {volume:.10g} {u}^3, voxels {voxels:.4g} {u}^3 ({n_cells} cells)"
+            line += f", volume {volume:.4g} {u}^3, voxels {voxels:.4g} {u}^3 ({n_cells} cells)"
+            notes += _volume_note(volume, voxels, model, case)
         else:
             if "solid" in kinds:
-                volume = sum(s.volume for s in p.surfaces) / case.unit_m ** 3
-                line += f", volume {volume:.10g} {u}^3"
+                line += f", volume {volume:.4g} {u}^3"
             line += f", {n_cells} cells crossed"
         rows.append(line)
         rows.append(f"     size {size} {u} (from {_length(lo[0], case)}, {_length(lo[1], case)}, "
                     f"{_length(lo[2], case)}), material {material} ({medium})")
-        notes = [n for s in p.surfaces for n in s.notes]
+        notes = [n for s in p.surfaces for n in s.notes] + notes
         if p.thin:
             notes.append("thinner than one cell, so staircased to whole edges; the voxel model "
                          "shows every cell its surface crosses")
@@ -146,6 +147,35 @@ def _part_rows(model: Model, owners: np.ndarray) -> list[str]:
             notes.append("owns no cell in the voxel model (hidden by another part, or smaller than a cell)")
         rows.extend(f"     note: {n}" for n in notes)
     return rows
+
+
+#: A voxel volume this far (fraction) from the mesh volume gets a note saying why.
+VOLUME_NOTE = 0.05
+
+
+def _volume_note(volume: float, voxels: float, model: Model, case: Case) -> list[str]:
+    """Why the voxel picture's volume differs from the mesh's, when it differs much."""
+    if volume <= 0 or abs(voxels - volume) <= VOLUME_NOTE * volume:
+        return []
+    more = "more" if voxels > volume else "less"
+    sizes = list(dict.fromkeys(_length(c, case) for c in (model.grid.min_cell, model.grid.max_cell)))
+    return [f"the voxel model holds {abs(voxels / volume - 1) * 100:.0f} % {more} than the mesh "
+            f"volume: it shows whole {' to '.join(sizes)} {case.units} cells, each owned by the "
+            "part its centre line lies in; the solver does not use that picture but each "
+            "edge's and face's exact share of the part, so the run sees its true shape"]
+
+
+def _medium(case: Case, part) -> str:
+    """The medium as the solver sees it, a loss tangent beside the conductivity it became."""
+    eps, sigma, is_pec = case.medium(part)
+    m = part.material
+    if is_pec:
+        return "perfect conductor" + (f"; sigma {m.sigma:.3g} S/m for its surface loss" if m.sigma else "")
+    text = f"eps_r {eps:g}"
+    if m.loss_tangent is not None:
+        text += (f", loss tangent {m.loss_tangent:g} -> sigma {sigma:.3g} S/m at "
+                 f"{format_frequency(case.spectrum.loss_at_hz, digits=4, trim=True)}")
+    return text + (f", sigma {sigma:.3g} S/m" if m.loss_tangent is None and sigma else "")
 
 
 def _refinement_row(r, case: Case) -> str:
@@ -221,9 +251,9 @@ def summary(model: Model, owners: np.ndarray, estimate: dict, case_path: str) ->
         f"{format_si(estimate['ringdown_s'], 's')} (the run stops sooner once the field energy "
         "has fallen 80 dB)",
     ]
-    if model.warnings:
+    if model.warnings or case.notes:
         lines.append("warnings:")
-        lines += [f"  {w}" for w in model.warnings]
+        lines += [f"  {w}" for w in list(case.notes) + list(model.warnings)]
     return "\n".join(lines)
 
 
@@ -235,6 +265,17 @@ def _check_names(out_dir: Path, names=MODEL_FILES + FILES) -> list[Path]:
             raise RingprintError(f"'{final}' exists and is not a file; move it away or choose "
                                  "another directory with --out")
     return finals
+
+
+def probe_loop(model: Model):
+    """Corners (4, 3) in metres of the loop a run would use (the case's, or placed by
+    the run's rules), or None when no place is found (the run would say why)."""
+    try:
+        probe = placement.place_probe(model)
+    except RingprintError:
+        return None
+    return probe_corners({"center_m": probe.center, "normal": probe.normal,
+                          "size_m": loop_side_m(model.grid, probe)})
 
 
 def write_outputs(model: Model, owners: np.ndarray, out_dir: Path) -> list[Path]:
@@ -249,8 +290,8 @@ def write_outputs(model: Model, owners: np.ndarray, out_dir: Path) -> list[Path]
     with contextlib.ExitStack() as stack:
         vti, png, toml = (stack.enter_context(atomic_path(f)) for f in finals)
         image.save(str(vti), binary=True)
-        voxel_image.render_preview(model, image, png)
-        toml.write_text(model.case.resolved_toml(), encoding="utf-8")
+        voxel_image.render_preview(model, image, png, probe=probe_loop(model))
+        toml.write_text(model.case.resolved_toml(relative_to=out_dir), encoding="utf-8")
     return finals
 
 

@@ -68,6 +68,17 @@ def default_mode(summary: dict) -> int:
     return 1
 
 
+def _title(summary: dict, index: int) -> str | None:
+    """``"mode 1, 2.28 GHz, Q 1.8"``, f and Q written as the report writes them."""
+    from ringprint.analysis.results import frequency_text, q_text
+
+    entry = next((m for m in summary["modes"] if isinstance(m, dict) and m.get("index") == index), None)
+    try:
+        return f"mode {index}, {frequency_text(entry, False)}, Q {q_text(entry, False)}"
+    except (KeyError, TypeError, ValueError):   # an entry without f or Q: the field's own title
+        return None
+
+
 def run(args: argparse.Namespace) -> int:
     from ringprint.analysis import field_views
     from ringprint.analysis.fieldset_io import FIELDS_NAME, read_fieldset
@@ -86,9 +97,10 @@ def run(args: argparse.Namespace) -> int:
     fs = read_fieldset(results / FIELDS_NAME)
     index = default_mode(summary) if args.mode is None else args.mode
     mode = fs.mode(index)  # "there is no mode N (this result has modes a-b)"
+    title = _title(summary, mode.index)
     if png is None:
-        field_views.show(fs, mode.index, args.quantity)
+        field_views.show(fs, mode.index, args.quantity, title=title)
         return 0
-    field_views.render_png(fs, mode.index, png, args.quantity)
+    field_views.render_png(fs, mode.index, png, args.quantity, title=title)
     print(f"wrote {png} (mode {mode.index}, {args.quantity})")
     return 0

@@ -1,8 +1,7 @@
 """Flat pictures of one mode for report.html: field slices and the touch map.
 
-Both pictures are drawn on a bare :class:`matplotlib.figure.Figure` with the Agg
-canvas (no display, no pyplot state) and returned as PNG bytes, small enough to
-embed in the report (about 100-200 kB).
+Both are drawn on a bare Agg :class:`matplotlib.figure.Figure` (no display, no pyplot
+state) and returned as PNG bytes small enough to embed (about 100-200 kB).
 
 - :func:`field_picture_png` -- three orthogonal slices through the point where the
   chosen quantity peaks (energy density by default), outlines of every part (each
@@ -233,7 +232,7 @@ def _part_handles(fs: FieldSet):
     return out
 
 
-def field_picture_png(fs: FieldSet, mode, quantity: str = "energy") -> bytes:
+def field_picture_png(fs: FieldSet, mode, quantity: str = "energy", title: str | None = None) -> bytes:
     """Three orthogonal slices of one mode's field through its peak, as PNG bytes.
 
     The large panel looks along the lattice's shortest side (:func:`flat_axis`);
@@ -246,6 +245,8 @@ def field_picture_png(fs: FieldSet, mode, quantity: str = "energy") -> bytes:
         The mode, or its 1-based index.
     quantity : {"energy", "e", "h"}
         What to show (:func:`field_quantity`); energy density by default.
+    title : str, optional
+        The title (default :func:`mode_title`).
 
     Returns
     -------
@@ -311,7 +312,7 @@ def field_picture_png(fs: FieldSet, mode, quantity: str = "energy") -> bytes:
         names.append("probe loop (projected)")
     fig.legend(legend, names, loc="outside lower center", ncol=min(len(names), 6), fontsize=8,
                frameon=False)
-    fig.suptitle(mode_title(m), fontsize=11)
+    fig.suptitle(title or mode_title(m), fontsize=11)
     return _png(fig)
 
 
@@ -328,13 +329,12 @@ def _check_touch(tmap: TouchMap) -> tuple[np.ndarray, np.ndarray]:
     return points, shift
 
 
-def touch_map_png(fs: FieldSet, tmap: TouchMap, worst_spots=None, mode=None) -> bytes:
+def touch_map_png(fs: FieldSet, tmap: TouchMap, worst_spots=None, mode=None, mode_text=None) -> bytes:
     """The touch map seen along the three axes, as PNG bytes.
 
-    The large panel looks along the lattice's shortest side (:func:`flat_axis`; from
-    above for a flat device). Each touch point is coloured by its predicted frequency shift (%); points with a
-    larger |shift| are drawn over the others. The outline of all parts together is
-    drawn in grey for orientation, and the worst spots carry their rank numbers.
+    The large panel looks along the lattice's shortest side (:func:`flat_axis`). Each
+    touch point is coloured by its predicted shift (%), larger |shift| drawn on top;
+    the parts' outline is grey, and the worst spots carry their rank numbers.
 
     Parameters
     ----------
@@ -345,7 +345,7 @@ def touch_map_png(fs: FieldSet, tmap: TouchMap, worst_spots=None, mode=None) -> 
         The worst spots, worst first, as :func:`ringprint.analysis.touch.worst_spots`
         gives them (modes.json ``touch.worst``); default: that function's five.
     mode : ModeField or int, optional
-        The mode, for the title.
+        The mode, for the title (``mode_text``, when given, is the title's mode part).
 
     Returns
     -------
@@ -399,6 +399,6 @@ def touch_map_png(fs: FieldSet, tmap: TouchMap, worst_spots=None, mode=None) -> 
     _colour_bar(fig, sc, [ax for ax, _ in panels], "frequency shift (%)")
     title = "touch map: predicted shift when a fingertip touches"
     if mode is not None:
-        title = f"{mode_title(resolve_mode(fs, mode))} - {title}"
+        title = f"{mode_text or mode_title(resolve_mode(fs, mode))} - {title}"
     fig.suptitle(title, fontsize=11)
     return _png(fig)

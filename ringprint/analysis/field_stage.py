@@ -31,7 +31,7 @@ from ringprint.errors import RingprintError
 log = logging.getLogger("ringprint.run")
 
 #: Tissue pressed on the outer surface for the touch maps (Gabriel et al. 1996).
-TOUCH_TISSUE = "skin_dry"
+TOUCH_TISSUE = "skin-dry"
 #: Worst touch spots listed per mode.
 WORST_SPOTS = 5
 #: Predicted touch shift (percent) beyond which first order is only a warning sign.

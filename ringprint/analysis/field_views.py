@@ -168,7 +168,7 @@ def _add_legend(plotter, entries) -> None:
 
 
 def build_scene(fs: FieldSet, mode_index: int, quantity: str = "e", off_screen: bool = False,
-                window_size=(1024, 768)):
+                window_size=(1024, 768), title: str | None = None):
     """The pyvista scene of one mode (contents in the module docstring).
 
     Parameters
@@ -180,6 +180,9 @@ def build_scene(fs: FieldSet, mode_index: int, quantity: str = "e", off_screen: 
         |E|, |H| or the stored energy density, each for 1 J stored.
     off_screen : bool
         Render off screen (for pictures; no display needed).
+    title : str, optional
+        The title (default :func:`~ringprint.analysis.field_plots.mode_title`; ``ringprint
+        show`` gives f and Q as modes.json's tables write them).
     window_size : (int, int)
         Width and height in pixels.
 
@@ -207,7 +210,7 @@ def build_scene(fs: FieldSet, mode_index: int, quantity: str = "e", off_screen: 
     entries += _add_probe(plotter, fs)
     if entries:
         _add_legend(plotter, entries)
-    title = plotter.add_title(mode_title(mode), font_size=12, color="black")
+    title = plotter.add_title(title or mode_title(mode), font_size=12, color="black")
     _use_font(title.GetTextProperty())
     for bar in plotter.scalar_bars.values():
         _use_font(bar.GetTitleTextProperty(), bar.GetLabelTextProperty())
@@ -230,7 +233,7 @@ def _check_size(size) -> tuple[int, int]:
 
 
 def render_png(fs: FieldSet, mode_index: int, path=None, quantity: str = "e",
-               size=(1024, 768)) -> bytes:
+               size=(1024, 768), title: str | None = None) -> bytes:
     """Draw the scene of one mode off screen and return it as PNG bytes.
 
     Parameters
@@ -251,7 +254,7 @@ def render_png(fs: FieldSet, mode_index: int, path=None, quantity: str = "e",
 
     size = _check_size(size)
     with quiet_vtk():
-        plotter = build_scene(fs, mode_index, quantity, off_screen=True, window_size=size)
+        plotter = build_scene(fs, mode_index, quantity, off_screen=True, window_size=size, title=title)
         try:
             pixels = plotter.screenshot(None, return_img=True)
         finally:
@@ -264,14 +267,14 @@ def render_png(fs: FieldSet, mode_index: int, path=None, quantity: str = "e",
     return png
 
 
-def show(fs: FieldSet, mode_index: int, quantity: str = "e") -> None:
+def show(fs: FieldSet, mode_index: int, quantity: str = "e", title: str | None = None) -> None:
     """Open an interactive window with the scene of one mode; returns when it closes."""
     if not display_available():
         raise RingprintError("no display to open a window on (DISPLAY and WAYLAND_DISPLAY are "
                              "unset); draw a picture with render_png instead")
     with quiet_vtk():
-        plotter = build_scene(fs, mode_index, quantity, off_screen=False)
+        plotter = build_scene(fs, mode_index, quantity, off_screen=False, title=title)
         try:
-            plotter.show(title=f"ringprint - {mode_title(resolve_mode(fs, mode_index))}")
+            plotter.show(title=f"ringprint - {title or mode_title(resolve_mode(fs, mode_index))}")
         finally:
             plotter.close()

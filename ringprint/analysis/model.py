@@ -34,7 +34,7 @@ Rules (documented here because the report relies on them):
   than a cell stays closed. In the dielectric average, the volume a conductor claims
   counts as air.
 - **Overlaps** follow :func:`ringprint.meshing.resolve_overlaps`: a higher
-  ``priority`` wins, else the later part in the case file.
+  ``overlap_rank`` wins, else the later part in the case file.
 """
 
 from __future__ import annotations
@@ -46,6 +46,7 @@ from dataclasses import dataclass, field
 import numpy as np
 
 from ringprint import fdtd, meshing
+from ringprint.analysis import _scale
 from ringprint.analysis.case import Case, Part
 from ringprint.errors import RingprintError
 from ringprint.fdtd import EPS0
@@ -193,12 +194,14 @@ def build_model(case: Case, allow_memory: bool = False, progress=None,
     with warnings.catch_warnings(record=True) as caught:
         warnings.simplefilter("always", meshing.MeshingWarning)
         parts = load_surfaces(case, cell)
+        _scale.check_scale(case, parts, cell)
         grid = plan(case, parts)
         boxes = [tuple(np.searchsorted(ax, hi) - np.searchsorted(ax, lo) + 2
                        for ax, lo, hi in zip(grid.axes, *s.bounds)) for p in parts for s in p.surfaces]
         memory = meshing.memory_estimate(*grid.axes, boundary_cells=grid.boundary_cells,
                                          subrays=SUBRAYS, part_boxes=boxes)
-        meshing.check_memory(memory, allow=allow_memory, graded=not grid.uniform)
+        with _scale.unit_hint(case, parts):
+            meshing.check_memory(memory, allow=allow_memory, graded=not grid.uniform)
         local = {id(s): grid.local_cell(*s.bounds) for p in parts for s in p.surfaces}
         thin = meshing.warn_thin_parts([s for p in parts for s in p.surfaces],
                                        [local[id(s)] for p in parts for s in p.surfaces])
@@ -215,7 +218,7 @@ def build_model(case: Case, allow_memory: bool = False, progress=None,
                 done += 1
                 if progress is not None:
                     progress(done, total, p.name)
-    notes = [str(w.message) for w in caught]
+    notes = [_scale.in_case_units(str(w.message), case) for w in caught]
     eps, sig, pec = assemble(case, grid, parts)
     free = conformal_metal(grid, parts, pec)
     return Model(case, grid, parts, eps, sig, pec, memory, notes, *free)
@@ -327,9 +330,9 @@ def assemble(case: Case, grid: meshing.Grid, parts: list[PartModel]):
     for p in parts:
         for f in p.fills:
             fills.append(f)
-            prio.append(p.part.priority)
+            prio.append(p.part.overlap_rank)
             media.append(case.medium(p.part))
-    fills = meshing.resolve_overlaps(fills, shapes, priority=prio)
+    fills = meshing.resolve_overlaps(fills, shapes, rank=prio)
     omega0 = 2 * math.pi * case.spectrum.loss_at_hz
     sheets = [sheet_nodes(s, grid) for p in parts if p.is_conductor for s, f in zip(p.surfaces, p.fills)
               if f.cuts is not None]

@@ -69,16 +69,22 @@ class _Progress:
 def _case_summary(case, model) -> dict:
     parts = []
     for p in model.parts:
-        parts.append({"name": p.name, "material": p.part.material_name or p.part.material.name,
+        eps_r, sigma, pec = case.medium(p.part)
+        m = p.part.material
+        parts.append({"name": p.name, "material": p.part.material_name or m.name,
+                      "eps_r": eps_r, "sigma_s_per_m": m.sigma if m.is_conductor else sigma,
+                      "loss_tangent": None if m.is_conductor else m.loss_tangent,
+                      "conductor": bool(m.is_conductor), "perfect_conductor": bool(pec),
                       "kind": ", ".join(sorted({s.kind for s in p.surfaces})),
                       "triangles": int(sum(s.n_triangles for s in p.surfaces)),
                       "volume_m3": float(sum(s.volume for s in p.surfaces)),
                       "thinner_than_a_cell": bool(p.thin)})
     stem = case.source.stem
     name = f"{case.source.parent.name}/{stem}" if stem == "case" else stem  # "tag/case", not "case"
-    return {"name": name, "title": case.title, "file": str(case.source),
+    return {"name": name, "title": case.title, "file": str(case.source), "units": case.units,
             "digest": case.digest(), "parts": parts,
-            "spectrum": {"f_min_hz": case.spectrum.f_min_hz, "f_max_hz": case.spectrum.f_max_hz}}
+            "spectrum": {"f_min_hz": case.spectrum.f_min_hz, "f_max_hz": case.spectrum.f_max_hz,
+                         "loss_at_hz": case.spectrum.loss_at_hz}}
 
 
 def _grid_summary(model) -> dict:
@@ -143,16 +149,19 @@ def run_case(case_path, out_dir=None, resume: bool = False, progress: bool | Non
     problem = check_grid_study(case.grid.cells_per_wavelength, grids)
     if problem:
         raise RingprintError(f"{case.source}: {problem}")
-    out = prepare_output_dir(out_dir if out_dir is not None else default_out_dir(case_path))
+    out = Path(out_dir if out_dir is not None else default_out_dir(case_path))
     digest = case.digest()
     fields = case.output.fields if fields is None else bool(fields)
-    sim = ringdown.load_checkpoint(out, digest) if resume else None  # refuse early
+    sim = ringdown.load_checkpoint(out, digest) if resume else None  # refuse before creating out
+    out = prepare_output_dir(out)
     handler = RunLogHandler(out)
     log.addHandler(handler)
     log.setLevel(logging.INFO)
     bar = _Progress(sys.stderr.isatty() if progress is None else progress)
     try:
         log.info("ringprint %s, case %s (digest %s)", __version__, case.source, digest[:16])
+        for note in case.notes:
+            log.warning(note)
         bar.at(0.0, "meshing")
         model = build_model(case, allow_memory=allow_memory,
                             progress=lambda d, n, what: bar.at(0.1 * d / n, "meshing"))
@@ -183,7 +192,7 @@ def run_case(case_path, out_dir=None, resume: bool = False, progress: bool | Non
         bands = list(case.bands)
         modes, hazards = mode_table(res, rows, ring.probe_signal, radius, bands,
                                     case.analysis.detuning_margin)
-        notes = list(model.warnings)
+        notes = list(case.notes) + list(model.warnings)
         coarse = []
         for level in range(1, grids if modes else 1):       # nothing to compare without modes
             bar.at(0.9, "grid check")
@@ -227,13 +236,20 @@ def run_case(case_path, out_dir=None, resume: bool = False, progress: bool | Non
         }
         spectrum = {"record": ring.signals[ring.probe_signal], "dt_s": ring.dt,
                     "start_index": ring.start_index}
-        atomic_write_text(out / "case.resolved.toml", case.resolved_toml())
+        atomic_write_text(out / "case.resolved.toml", case.resolved_toml(relative_to=out))
         log.info("%d modes, %d hazards", len(modes), len(hazards))
         handler.flush()
         write_results(out, summary, spectrum, bands, log_lines=None,
                       extra_html=field_section(summary, fs, case.output.images))
         ringdown.remove_checkpoint(out)
         bar.at(1.0, "done")
+    except BaseException as exc:   # the log of a failed (or halted) run ends with why
+        if isinstance(exc, ringdown.RunHalted):
+            log.warning("%s", exc)
+        else:
+            log.error("run failed: %s", exc if isinstance(exc, RingprintError)
+                      else f"{type(exc).__name__}: {exc}")
+        raise
     finally:
         bar.close()
         handler.flush()

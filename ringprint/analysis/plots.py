@@ -28,6 +28,7 @@ import scipy.fft
 import scipy.signal
 
 from ringprint.analysis.outputs import atomic_write_bytes
+from ringprint.analysis.results import frequency_text, q_text
 from ringprint.errors import RingprintError
 
 __all__ = ["spectrum_from_record", "check_spectrum", "render_spectrum_png",
@@ -194,7 +195,8 @@ def _worst_status(mode: Mapping) -> str:
 
 def render_spectrum_png(freq_hz, mag_db, modes: Sequence[Mapping] = (),
                         bands: Sequence[Mapping] = (), limits_hz: tuple[float, float] | None = None,
-                        title: str = "", dpi: int = 110) -> bytes:
+                        title: str = "", dpi: int = 110,
+                        db_reference: str = "its peak at any frequency") -> bytes:
     """Draw the spectrum with band shading and mode markers; return PNG bytes.
 
     Parameters
@@ -214,6 +216,9 @@ def render_spectrum_png(freq_hz, mag_db, modes: Sequence[Mapping] = (),
         Plot title.
     dpi : int
         Resolution of the PNG (the figure is 9 x 4.8 inches).
+    db_reference : str
+        What 0 dB is, for the axis label (default: the peak of the whole spectrum, as
+        :func:`spectrum_from_record` scales it; it may lie outside the limits shown).
 
     Returns
     -------
@@ -239,7 +244,7 @@ def render_spectrum_png(freq_hz, mag_db, modes: Sequence[Mapping] = (),
     top = float(mag[finite].max()) if finite.any() else 0.0
     bottom = max(float(mag[finite].min()) if finite.any() else top - 1.0, top - DYNAMIC_RANGE_DB)
     span = max(top - bottom, 1.0)
-    y_lo, y_hi = bottom - 0.05 * span, top + 0.22 * span
+    y_lo, y_hi = bottom - 0.05 * span, top + 0.42 * span   # room for the mode labels
 
     fig = Figure(figsize=(9.0, 4.8), dpi=dpi, layout="constrained")
     ax = fig.add_subplot()
@@ -253,12 +258,14 @@ def render_spectrum_png(freq_hz, mag_db, modes: Sequence[Mapping] = (),
                    edgecolor="0.3", hatch=hatch, linewidth=0.6, zorder=0)
         handles.append(Patch(facecolor=colour, alpha=0.4, edgecolor="0.3", hatch=hatch,
                              label=f"band {name}"))
+    _name_bands(ax, band_list, lo, hi, scale)
     ax.plot(freq[shown] / scale, np.clip(mag[shown], y_lo, None), color="black",
             linewidth=1.1, zorder=2)
     handles.insert(0, Line2D([], [], color="black", linewidth=1.1, label="probe spectrum"))
 
     used_status = set()
-    for mode in modes:
+    last_x, level = None, 0
+    for mode in sorted(modes, key=lambda m: float(m["frequency_hz"])):
         f = float(mode["frequency_hz"])
         if not lo <= f <= hi:
             continue
@@ -270,8 +277,14 @@ def render_spectrum_png(freq_hz, mag_db, modes: Sequence[Mapping] = (),
         ax.axvline(f / scale, color="0.35", linestyle=":", linewidth=0.8, zorder=1)
         ax.plot([f / scale], [y_mark], marker="v", markersize=8, markerfacecolor=face,
                 markeredgecolor="black", linestyle="none", zorder=3)
-        ax.annotate(str(mode["index"]), (f / scale, y_mark), xytext=(0, 7),
-                    textcoords="offset points", ha="center", va="bottom", fontsize=8)
+        # f and Q at the marker, written as every table writes them; neighbours alternate
+        # between two heights so that close modes stay readable
+        close = last_x is not None and (f - last_x) / (hi - lo) < 0.12
+        level = (1 - level) if close else 0
+        last_x = f
+        ax.annotate(f"{mode['index']}: {frequency_text(mode, False)}\nQ {q_text(mode, False)}",
+                    (f / scale, y_mark), xytext=(0, 7 + 20 * level), textcoords="offset points",
+                    ha="center", va="bottom", fontsize=7, linespacing=1.0)
     for status in ("inside", "near", "clear"):
         if status in used_status:
             face, label = _STATUS_STYLE[status]
@@ -282,7 +295,7 @@ def render_spectrum_png(freq_hz, mag_db, modes: Sequence[Mapping] = (),
     ax.set_xlim(lo / scale, hi / scale)
     ax.set_ylim(y_lo, y_hi)
     ax.set_xlabel(f"frequency ({unit})")
-    ax.set_ylabel("probe spectrum (dB)")
+    ax.set_ylabel(f"probe spectrum (dB re {db_reference})")
     if title:
         ax.set_title(title)
     ax.grid(True, color="0.85", linewidth=0.6)
@@ -291,6 +304,23 @@ def render_spectrum_png(freq_hz, mag_db, modes: Sequence[Mapping] = (),
     buf = io.BytesIO()
     fig.savefig(buf, format="png", dpi=dpi, facecolor="white")
     return buf.getvalue()
+
+
+def _name_bands(ax, bands, lo: float, hi: float, scale: float) -> None:
+    """Each band's name, upright at the top of its shading; a name that would touch the
+    previous one moves right until it is clear."""
+    last = None
+    for name, b_lo, b_hi in sorted(bands, key=lambda b: b[1]):
+        centre = (max(b_lo, lo) + min(b_hi, hi)) / 2
+        if not lo <= centre <= hi:
+            continue
+        x = (centre - lo) / (hi - lo)
+        if last is not None and x - last < 0.022:
+            x = last + 0.022
+        last = x
+        ax.text(x, 0.99, name, transform=ax.transAxes, rotation=90, ha="center", va="top",
+                fontsize=7, color="0.15", zorder=4,
+                bbox={"facecolor": "white", "edgecolor": "none", "alpha": 0.7, "pad": 1.0})
 
 
 def write_spectrum_png(path: str | os.PathLike, spectrum: Mapping,

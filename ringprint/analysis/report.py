@@ -1,9 +1,8 @@
 """The results of ``ringprint run``: modes.json, modes.csv, spectrum.png, report.html, run.log.
 
-:func:`write_results` writes them all into one output directory; each file appears
-only when complete (:mod:`ringprint.analysis.outputs`). The pieces (re-exported here):
-``write_json``, ``write_csv``, ``write_spectrum_png``, :func:`write_report_html`,
-``write_run_log``; ``format_summary_table`` gives the terminal table.
+:func:`write_results` writes them all, each file only when complete
+(:mod:`ringprint.analysis.outputs`). Re-exported here: ``write_json``, ``write_csv``,
+``write_spectrum_png``, ``write_run_log``, ``format_summary_table`` (the terminal table).
 
 Data model
 ----------
@@ -17,8 +16,12 @@ when absent, and ``"bands"`` -- the band list -- when absent)::
              {"name": str, required
               "title": str, optional (default: the name)
               "file": str, optional (path of the case file)
-              "parts": [{"name": str, "material": str, ...}, ...], optional
-              "spectrum": {"f_min_hz": float, "f_max_hz": float}, optional
+              "units": str, optional (the case's length unit: facts in it)
+              "parts": [{"name": str, "material": str, optional "eps_r",
+                         "loss_tangent", "sigma_s_per_m", "conductor",
+                         "perfect_conductor", ...}, ...], optional
+              "spectrum": {"f_min_hz": float, "f_max_hz": float, optional
+                           "loss_at_hz"}, optional
                           (the analysed span; also the plot's frequency axis)
               ...any other keys}
     "grid":  dict, shown key by key; the keys the report labels are
@@ -70,7 +73,7 @@ when absent, and ``"bands"`` -- the band list -- when absent)::
                (:func:`~ringprint.analysis.results.hazards_from_modes`).
     "run": {"steps": int, "dt_s": float, "wall_time_s": float, "memory_bytes": int,
             ...other facts, shown as given},
-    "notes": [str, ...] -- warnings of the run, shown in the report,
+    "notes": [str, ...] -- warnings of the run, shown after the hazard table,
     "uncertainty": {"basis": "grid study"|"stated bound", "stated_bound": str (what
              the stated bound rests on), "grid_study": None or {"method", "grids":
              [{"cells_per_wavelength", "cell_m", "modes_found", ...}], "ratio",
@@ -78,21 +81,17 @@ when absent, and ``"bands"`` -- the band list -- when absent)::
              indices], "unmatched": [{"mode", "reason"}]}},
     "ringprint_version": str.
 
-``bands`` (list) -- the operating bands checked:
-``[{"name": str (unique), "low_hz": float, "high_hz": float > low_hz, "source": str
-(the document the edges come from)}, ...]``; :class:`ringprint.analysis.bands.Band`
-objects are accepted too.
+``bands`` (list) -- the operating bands checked, ``[{"name": str (unique), "low_hz",
+"high_hz" > low_hz, "source": str}, ...]``, or :class:`ringprint.analysis.bands.Band` objects.
 
-``spectrum`` (dict) -- for the plot, either computed by the caller,
-``{"frequency_hz": 1-D array (strictly increasing), "magnitude_db": same shape}``, or
-a probe record for the writer to transform,
-``{"record": (n_samples,) or (n_pickups, n_samples) array, "dt_s": float,
-"start_index": int (first sample after the source has died away; default 0)}`` --
-Hann window, zero-padded 4x, pickups combined by summed power, dB re the peak
-(:func:`~ringprint.analysis.plots.spectrum_from_record`).
+``spectrum`` (dict) -- for the plot: ``{"frequency_hz": 1-D increasing array,
+"magnitude_db": same shape}``, or a probe record ``{"record": (n_samples,) or
+(n_pickups, n_samples) array, "dt_s": float, "start_index": int (default 0)}`` that
+:func:`~ringprint.analysis.plots.spectrum_from_record` transforms (Hann window, 4x zero
+padding, pickups summed in power, dB re the peak).
 
-Every check failure raises :class:`~ringprint.errors.RingprintError` naming the key
-path (e.g. ``summary.modes[2].q``) and the fix; nothing is written then.
+A failed check raises :class:`~ringprint.errors.RingprintError` naming the key path
+(``summary.modes[2].q``) and the fix; nothing is written then.
 """
 
 from __future__ import annotations
@@ -108,12 +107,14 @@ from ringprint import __version__
 from ringprint.analysis.outputs import (atomic_write_bytes, atomic_write_text,
                                         prepare_output_dir, write_run_log)
 from ringprint.analysis.plots import check_spectrum, render_spectrum_png, write_spectrum_png
-from ringprint.analysis.results import (basis_text, format_summary_table, frequency_text,
+from ringprint.analysis.report_facts import case_facts, grid_facts, parts_rows, run_facts
+from ringprint.analysis.report_verdict import hazard_section, participation_text, verdict_html
+from ringprint.analysis.summary_table import format_summary_table
+from ringprint.analysis.results import (basis_text, frequency_text,
                                         hazards_from_modes, q_over_chu_text, q_text,
                                         validate_bands, validate_summary, write_csv, write_json)
-from ringprint.analysis.textformat import (format_bytes, format_duration, format_error,
-                                           format_frequency, format_number, format_percent,
-                                           format_q, format_sci, format_si)
+from ringprint.analysis.textformat import (format_error, format_frequency, format_like,
+                                           format_number, format_percent, format_q, format_sci)
 
 __all__ = ["write_results", "write_report_html", "build_report_html", "SAFETY_NOTE",
            "write_json", "write_csv", "write_spectrum_png", "write_run_log",
@@ -132,7 +133,7 @@ th,td{border:1px solid #bbb;padding:.2em .6em;text-align:left;vertical-align:top
 td.num{text-align:right;font-variant-numeric:tabular-nums;white-space:nowrap}
 tr.inside td{background:#ddd;font-weight:bold} tr.near td{background:#f3f3f3}
 .safety{border:2px solid #333;padding:.6em .9em;background:#fafafa}
-.muted{color:#555} img{max-width:100%;height:auto}
+.muted{color:#555} img{max-width:100%;height:auto} .verdict{font-size:1.15em;font-weight:bold;border-left:6px solid #333;padding:.3em .7em;background:#f3f3f3}
 """
 
 
@@ -169,57 +170,6 @@ def _spectrum_limits(summary: Mapping):
     return (float(lo), float(hi)) if lo is not None and hi is not None and hi > lo else None
 
 
-_GRID_LABELS = {"nodes": "grid nodes (x, y, z)", "cells": "cells",
-                "step_min_m": "smallest cell step", "step_max_m": "largest cell step",
-                "cpml_cells": "absorbing layer (cells per face)"}
-
-
-def _grid_facts(grid: Mapping) -> list[tuple[str, str]]:
-    facts = []
-    for key, value in grid.items():
-        if key == "nodes" and isinstance(value, list):
-            text = " \u00d7 ".join(str(v) for v in value)
-        elif key.endswith("_m") and isinstance(value, (int, float)):
-            text = format_si(value, "m")
-        elif isinstance(value, int) and not isinstance(value, bool):
-            text = f"{value:,}"
-        else:
-            text = value
-        facts.append((_GRID_LABELS.get(key, key.replace("_", " ")), str(text)))
-    return facts
-
-
-def _run_facts(summary: Mapping) -> list[tuple[str, str]]:
-    run = dict(summary.get("run") or {})
-    facts = []
-    if "steps" in run:
-        facts.append(("time steps", f"{run.pop('steps'):,}"))
-    if "dt_s" in run:
-        dt = run.pop("dt_s")
-        facts.append(("time step", format_si(dt, "s")))
-        steps = (summary.get("run") or {}).get("steps")
-        if isinstance(steps, int):
-            facts.append(("simulated time", format_si(steps * dt, "s")))
-    if "wall_time_s" in run:
-        facts.append(("wall time", format_duration(run.pop("wall_time_s"))))
-    if "memory_bytes" in run:
-        facts.append(("peak memory", format_bytes(run.pop("memory_bytes"))))
-    facts += [(k.replace("_", " "), str(v)) for k, v in run.items()]
-    facts.append(("ringprint version", str(summary.get("ringprint_version", "unknown"))))
-    return facts
-
-
-def _participation_text(mode: Mapping, top: int = 3) -> str:
-    """``"ground plane (carries it); housing 27 %, ground plane 17 %"``: the part that
-    carries the mode (``rings_in``, when known) and the largest energy shares."""
-    shares = sorted(mode["participation"].items(), key=lambda kv: -kv[1])[:top]
-    text = ", ".join(f"{part} {format_percent(100.0 * share)}" for part, share in shares)
-    carrier = mode.get("rings_in")
-    if carrier:
-        text = f"{carrier} (carries it)" + (f"; {text}" if text else "")
-    return text or "-"
-
-
 def _bands_text(mode: Mapping) -> str:
     return "; ".join(
         f"{e['band']} {e['status']}" + ("" if e["status"] == "inside"
@@ -228,59 +178,18 @@ def _bands_text(mode: Mapping) -> str:
 
 
 def _case_section(summary: Mapping, bands: Sequence[Mapping]) -> str:
-    case = _case_dict(summary)
-    facts = [("case", case["name"])]
-    if case.get("file"):
-        facts.append(("case file", case["file"]))
-    limits = _spectrum_limits(summary)
-    if limits:
-        facts.append(("spectrum analysed", f"{format_frequency(limits[0], trim=True)} to "
-                                           f"{format_frequency(limits[1], trim=True)}"))
-    grid = summary["grid"]
-    line = []
-    if isinstance(grid.get("nodes"), list):
-        line.append(" \u00d7 ".join(str(v) for v in grid["nodes"]) + " nodes")
-    if isinstance(grid.get("cells"), int):
-        line.append(f"{grid['cells']:,} cells")
-    steps = list(dict.fromkeys(format_si(grid[k], "m") for k in ("step_min_m", "step_max_m")
-                               if isinstance(grid.get(k), (int, float))))
-    if steps:
-        line.append("step " + " to ".join(steps))
-    if line:
-        facts.append(("grid", ", ".join(line)))
-    out = ["<h2>Case</h2>", _facts(facts, "case-facts")]
-    parts = case.get("parts") or []
-    if parts:
+    out = ["<h2>Case</h2>", _facts(case_facts(summary, _spectrum_limits(summary)), "case-facts")]
+    rows = parts_rows(summary)
+    if rows:
         out.append("<h3>Parts</h3>")
-        out.append(_table("parts", ["part", "material"],
-                          [[p.get("name", "?"), p.get("material", "?")] for p in parts],
-                          [False, False]))
+        out.append(_table("parts", ["part", "material", "as the solver sees it"], rows,
+                          [False, False, False]))
     if bands:
         out.append("<h3>Operating bands checked</h3>")
         out.append(_table("bands", ["band", "from", "to", "source"],
                           [[b["name"], format_frequency(b["low_hz"], trim=True, digits=7),
                             format_frequency(b["high_hz"], trim=True, digits=7), b["source"]]
                            for b in bands], [False, True, True, False]))
-    return "\n".join(out)
-
-
-def _hazard_section(summary: Mapping, hazards: Sequence[Mapping]) -> str:
-    out = ['<h2 id="hazards-title">Hazards: modes inside or near a band (worst first)</h2>']
-    modes = summary["modes"]
-    if not hazards:
-        out.append('<p id="no-hazards">No mode lies inside or near any band checked.</p>')
-        return "\n".join(out)
-    rows, classes = [], []
-    for h in sorted(hazards, key=lambda h: h["rank"]):
-        m = modes[h["mode"] - 1]
-        rows.append([h["rank"], m["index"], frequency_text(m), q_text(m), h["band"], h["status"],
-                     format_percent(h["distance_percent"]), _participation_text(m)])
-        classes.append(h["status"])
-    out.append(_table("hazards", ["rank", "mode", "frequency", "Q", "band", "status",
-                                  "distance to edge", "where it rings"], rows,
-                      [True, True, True, True, False, False, True, False], classes))
-    out.append('<p class="muted">Distance to edge: from the mode to the nearest band edge, in '
-               "percent of the mode frequency; negative inside the band.</p>")
     return "\n".join(out)
 
 
@@ -292,10 +201,10 @@ def _modes_section(summary: Mapping) -> str:
         return "\n".join(out)
     has_conf = any("confidence" in m for m in modes)
     header = ["mode", "frequency", "Q", "Q / Q_Chu", "decay rate (1/s)", "amplitude",
-              "uncertainty from", "bands", "where it rings"] + (["confidence"] if has_conf else [])
+              "uncertainty from", "bands", "rings in"] + (["confidence"] if has_conf else [])
     rows = [[m["index"], frequency_text(m), q_text(m), q_over_chu_text(m),
              format_sci(m["decay_rate_per_s"]), format_number(m["amplitude"]), basis_text(m),
-             _bands_text(m), _participation_text(m)]
+             _bands_text(m), participation_text(m)]
             + ([str(m.get("confidence", "-"))] if has_conf else []) for m in modes]
     numeric = [True] * 6 + [False, False, False] + ([False] if has_conf else [])
     has_qc = any(m.get("q_conductor") is not None for m in modes)
@@ -314,7 +223,8 @@ def _modes_section(summary: Mapping) -> str:
     out.append('<p class="muted">Frequency and Q are shown with their uncertainty and to the '
                "digits it supports (details below). Q / Q_Chu compares the Q with the Chu limit "
                "of the smallest sphere around the part(s) that ring; near 1 means the part "
-               "radiates about as well as anything of its size can.</p>")
+               "radiates about as well as anything of its size can; n/a below Q 5, where the "
+               "Q of a complex frequency is not the energy Q the Chu limit bounds.</p>")
     out.append(_uncertainty_section(summary))
     return "\n".join(out)
 
@@ -326,14 +236,15 @@ def _uncertainty_section(summary: Mapping) -> str:
     rows = []
     for m in modes:
         u_f, u_q = m.get("frequency_uncertainty_hz"), m.get("q_uncertainty")
-        rows.append([m["index"], format_frequency(m["frequency_hz"], digits=9),
-                     format_frequency(m.get("frequency_extrapolated_hz"), digits=6),
+        extrapolated = m.get("frequency_extrapolated_hz")
+        rows.append([m["index"], frequency_text(m),
+                     "-" if extrapolated is None else frequency_text({**m, "frequency_hz": extrapolated}, False),
                      format_percent(None if u_f is None else 100.0 * u_f / m["frequency_hz"]),
-                     format_number(m["q"], 6), format_number(m.get("q_extrapolated"), 4),
+                     q_text(m), format_like(m.get("q_extrapolated"), None if u_q is None else u_q / m["q"]),
                      format_percent(None if u_q is None else 100.0 * u_q / m["q"]),
                      basis_text(m), format_error(m.get("fit_error", m.get("error")))])
-    out.append(_table("uncertainty", ["mode", "frequency as computed", "extrapolated",
-                                      "frequency uncertainty", "Q as computed", "extrapolated",
+    out.append(_table("uncertainty", ["mode", "frequency", "extrapolated",
+                                      "frequency uncertainty", "Q", "extrapolated",
                                       "Q uncertainty", "from", "fit error"], rows,
                       [True] * 7 + [False, True]))
     block = summary.get("uncertainty") or {}
@@ -351,7 +262,8 @@ def _uncertainty_section(summary: Mapping) -> str:
         notes.append(f"Stated bound: {block['stated_bound']}. Set grid_check = true under "
                      "[analysis] (or run with --grid-check) for a measured one.")
     notes.append("Fit error: the harmonic inversion's own relative error of the complex "
-                 "frequency, a small part of the uncertainty.")
+                 "frequency, a small part of the uncertainty. modes.json and modes.csv keep every "
+                 "value at full precision.")
     out += [f'<p class="muted">{_e(n)}</p>' for n in notes]
     return "\n".join(out)
 
@@ -362,9 +274,10 @@ def build_report_html(summary: Mapping, png: bytes, bands: Sequence[Mapping] = (
 
     ``summary`` must already be checked (:func:`validate_summary`); ``png`` is the
     spectrum picture; ``extra_html`` (the hazardous modes' field pictures and touch
-    maps) follows the hazard table. Order: title and safety note, case (parts,
-    spectrum limits, bands, grid), spectrum plot, hazard table, field pictures, all
-    modes, run facts, notes.
+    maps, and any other section a stage adds) follows the warnings. Order, the answer
+    first: title, the one-line verdict, the hazard table, the run's warnings, the safety
+    note, ``extra_html``, all modes, the spectrum plot, the case (parts, spectrum,
+    bands), the run facts.
     """
     case = _case_dict(summary)
     title = case.get("title") or case["name"]
@@ -379,23 +292,26 @@ def build_report_html(summary: Mapping, png: bytes, bands: Sequence[Mapping] = (
         "<!DOCTYPE html>", '<html lang="en"><head><meta charset="utf-8">',
         f"<title>ringprint report: {_e(title)}</title>", f"<style>{_CSS}</style></head><body>",
         f"<h1>{_e(title)}</h1>",
+        verdict_html(summary, hazards, bands),
         f'<p class="muted">Resonances found by ringprint: {n} mode{"s" if n != 1 else ""}, '
         f"{len(hazards)} band hazard{'s' if len(hazards) != 1 else ''}. Written {_e(stamp)}.</p>",
-        f'<p class="safety" id="safety-note"><strong>Safety note.</strong> {_e(SAFETY_NOTE)}</p>',
-        _case_section(summary, bands),
-        "<h2>Spectrum</h2>",
-        f'<img id="spectrum" alt="Probe spectrum with operating bands shaded and a numbered '
-        f'marker at each mode" src="data:image/png;base64,{image}">',
-        _hazard_section(summary, hazards),
-        extra_html,
-        _modes_section(summary),
-        "<h2>Run</h2>",
-        _facts(_grid_facts(summary["grid"]) + _run_facts(summary), "run-facts"),
+        hazard_section(summary, hazards, bands, _table),
     ]
     if notes:
-        parts.append("<h2>Notes from the run</h2><ul id=\"notes\">"
+        parts.append('<h2 id="notes-title">Warnings from the run</h2><ul id="notes">'
                      + "".join(f"<li>{_e(note)}</li>" for note in notes) + "</ul>")
-    parts.append("</body></html>")
+    parts += [
+        f'<p class="safety" id="safety-note"><strong>Safety note.</strong> {_e(SAFETY_NOTE)}</p>',
+        extra_html,
+        _modes_section(summary),
+        "<h2>Spectrum</h2>",
+        f'<img id="spectrum" alt="Probe spectrum with the operating bands shaded and named, '
+        f'and a marker with f and Q at each mode" src="data:image/png;base64,{image}">',
+        _case_section(summary, bands),
+        "<h2>Run</h2>",
+        _facts(grid_facts(summary) + run_facts(summary), "run-facts"),
+        "</body></html>",
+    ]
     return "\n".join(parts) + "\n"
 
 

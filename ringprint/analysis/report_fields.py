@@ -23,7 +23,8 @@ from collections.abc import Mapping
 
 from ringprint.analysis import field_plots
 from ringprint.analysis.fieldset import FieldSet
-from ringprint.analysis.textformat import format_frequency, format_q
+from ringprint.analysis.results import frequency_text, q_text
+from ringprint.analysis.textformat import format_q
 from ringprint.errors import RingprintError
 
 __all__ = ["MAX_MODES", "hazard_field_section", "mode_heading"]
@@ -42,7 +43,7 @@ def _e(value) -> str:
 def mode_heading(mode: Mapping) -> str:
     """``"mode 4, 2.41 GHz: 71 % bezel ring, 18 % battery"`` (plain text) from a
     modes.json entry; parts below 5 % are left out, at most three are named."""
-    text = f"mode {mode['index']}, {format_frequency(mode['frequency_hz'], digits=3)}"
+    text = f"mode {mode['index']}, {frequency_text(mode, False)}"
     shares = sorted(((float(v), str(k)) for k, v in (mode.get("participation") or {}).items()
                      if v is not None), reverse=True)
     named = [f"{round(100 * v)} % {k}" for v, k in shares if v >= HEADING_SHARE][:HEADING_PARTS]
@@ -64,7 +65,7 @@ def _hazard_modes(summary: Mapping) -> list[tuple[int, list]]:
 
 def _threat_line(mode: Mapping, hazards: list) -> str:
     bands = ", ".join(f"{h['status']} {h['band']}" for h in hazards)
-    return f"Q {format_q(mode.get('q'))}; {bands} (hazard rank {hazards[0].get('rank', '-')})"
+    return f"Q {q_text(mode)}; {bands} (hazard rank {hazards[0].get('rank', '-')})"
 
 
 def _img(png: bytes, alt: str) -> str:
@@ -95,7 +96,8 @@ def _mode_block(summary_mode: Mapping, hazards: list, fs: FieldSet, spots) -> li
     if not any(m.index == index for m in fs.modes):
         out.append('<p class="muted">No field was stored for this mode.</p>')
         return out
-    out.append(_img(field_plots.field_picture_png(fs, index),
+    title = f"mode {index}, {frequency_text(summary_mode, False)}, Q {q_text(summary_mode, False)}"
+    out.append(_img(field_plots.field_picture_png(fs, index, title=title),
                     f"{heading}: stored energy density in three slices"))
     tmap = fs.touch.get(index)
     if tmap is None:
@@ -105,7 +107,7 @@ def _mode_block(summary_mode: Mapping, hazards: list, fs: FieldSet, spots) -> li
         from ringprint.analysis.touch import worst_spots
 
         spots = worst_spots(tmap, q_before=fs.mode(index).q)
-    out.append(_img(field_plots.touch_map_png(fs, tmap, spots, mode=index),
+    out.append(_img(field_plots.touch_map_png(fs, tmap, spots, mode=index, mode_text=title),
                     f"{heading}: touch map"))
     out.append(_spot_table(index, list(spots)))
     return out

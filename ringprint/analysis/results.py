@@ -24,20 +24,22 @@ import numpy as np
 
 from ringprint import __version__
 from ringprint.analysis.outputs import atomic_write_text
-from ringprint.analysis.textformat import (format_frequency_pm, format_like, format_percent, format_q,
+from ringprint.analysis.textformat import (format_frequency_as_pm, format_frequency_pm, format_like,
                                            format_q_pm)
 from ringprint.errors import RingprintError
 
-__all__ = ["MODE_KEYS", "CSV_COLUMNS", "UNCERTAINTY_KEYS", "frequency_text", "q_text",
+__all__ = ["MODE_KEYS", "CSV_COLUMNS", "UNCERTAINTY_KEYS", "frequency_text", "q_text", "carrier_text",
            "q_over_chu_text", "basis_text", "STATUSES", "to_jsonable", "validate_bands",
            "validate_summary", "hazards_from_modes", "q_over_chu", "worst_status", "write_json",
-           "write_csv", "csv_rows", "format_summary_table"]
+           "write_csv", "csv_rows"]
 
 #: Keys every mode must have (the contract; keys may be added, never renamed).
 MODE_KEYS = ("index", "frequency_hz", "q", "decay_rate_per_s", "amplitude", "error",
              "q_chu", "bands", "participation")
 #: Columns of modes.csv, in order; other scalar mode keys follow, sorted by name.
-CSV_COLUMNS = ("index", "frequency_hz", "q", "decay_rate_per_s", "amplitude", "error",
+#: (modes.json keeps "error" beside "fit_error"; the CSV shows the fit error once, as
+#: "fit_error", among the uncertainty columns.)
+CSV_COLUMNS = ("index", "frequency_hz", "q", "decay_rate_per_s", "amplitude",
                "q_chu", "q_over_chu", "confidence", "worst_status", "bands", "participation")
 #: The Q columns of the conductor-loss model (ringprint.analysis.conductor_loss) follow
 #: "q"; each part's share of the conductor loss ("part=share; ...") goes last.
@@ -338,12 +340,13 @@ def csv_rows(summary: Mapping) -> tuple[list[str], list[list[str]]]:
     modes = summary["modes"]
     extra = sorted({k for m in modes for k, v in m.items()
                     if k not in CSV_COLUMNS and (v is None or isinstance(v, (str, int, float)))})
-    extra = [k for k in extra if k not in UNCERTAINTY_KEYS]
+    extra = [k for k in extra if k not in UNCERTAINTY_KEYS and k != "error"]  # shown as fit_error
     header = list(CSV_COLUMNS) + list(UNCERTAINTY_KEYS) + extra
     rows = []
     for mode in modes:
         flat = dict(mode)
         flat["q_over_chu"] = q_over_chu(mode)
+        flat["fit_error"] = mode.get("fit_error", mode.get("error"))
         flat["worst_status"] = worst_status(mode)
         flat["bands"] = "; ".join(f"{e['band']}: {e['status']} ({e['distance_percent']:.3g} %)"
                                   for e in mode["bands"])
@@ -374,30 +377,41 @@ def write_csv(path: str | os.PathLike, summary: Mapping) -> Path:
     return atomic_write_text(target, buf.getvalue())
 
 
-def _bands_hit(mode: Mapping) -> str:
-    hits = []
-    for e in sorted(mode["bands"], key=lambda e: STATUSES.index(e["status"])):
-        if e["status"] == "inside":
-            hits.append(f"{e['band']} inside")
-        elif e["status"] == "near":
-            hits.append(f"{e['band']} near ({format_percent(e['distance_percent'])})")
-    return ", ".join(hits) or "-"
-
-
-def frequency_text(mode: Mapping) -> str:
+def frequency_text(mode: Mapping, uncertainty: bool = True) -> str:
     """A mode's frequency to the digits its uncertainty supports (``"977 ± 7 MHz"``);
-    a summary without uncertainties falls back to the fit error's digits."""
-    return format_frequency_pm(mode["frequency_hz"], mode.get("frequency_uncertainty_hz"),
-                               mode.get("error"))
+    a summary without uncertainties falls back to the fit error's digits. With
+    ``uncertainty=False`` the same rounded value without the ``± ...`` (``"977 MHz"``).
+    Every table, the verdict, the CLI summary and the plots write a mode's frequency
+    with this one function."""
+    fmt = format_frequency_pm if uncertainty else format_frequency_as_pm
+    return fmt(mode["frequency_hz"], mode.get("frequency_uncertainty_hz"),
+               mode.get("fit_error", mode.get("error")))
 
 
-def q_text(mode: Mapping) -> str:
-    """A mode's Q with its uncertainty (``"43 ± 4"``), or three digits without one."""
-    return format_q_pm(mode["q"], mode.get("q_uncertainty"))
+#: What the report and the CLI call a mode no part carries (its energy is in the air).
+NO_CARRIER = "no part (air)"
+
+
+def carrier_text(mode: Mapping) -> str:
+    """The part that carries a mode (``rings_in``), :data:`NO_CARRIER` when none does, or
+    "not known" when the run took no mode fields (no ``rings_in`` key)."""
+    if "rings_in" not in mode:
+        return "not known (no mode fields)"
+    return mode["rings_in"] or NO_CARRIER
+
+
+def q_text(mode: Mapping, uncertainty: bool = True) -> str:
+    """A mode's Q with its uncertainty (``"43 ± 4"``), or three digits without one; with
+    ``uncertainty=False`` the same rounded value alone (``"43"``)."""
+    text = format_q_pm(mode["q"], mode.get("q_uncertainty"))
+    return text if uncertainty else text.split(" \u00b1 ")[0]
 
 
 def q_over_chu_text(mode: Mapping) -> str:
-    """Q / Q_Chu to the digits the Q's relative uncertainty supports."""
+    """Q / Q_Chu to the digits the Q's relative uncertainty supports; ``"n/a"`` where
+    the Chu check does not apply (``chu_applies`` false: Q below 5, see the README)."""
+    if mode.get("chu_applies") is False:
+        return "n/a"
     u = mode.get("q_uncertainty")
     return format_like(q_over_chu(mode), None if u is None else u / mode["q"])
 
@@ -405,41 +419,3 @@ def q_over_chu_text(mode: Mapping) -> str:
 def basis_text(mode: Mapping) -> str:
     """Where the uncertainty comes from, for tables: "grid study", "stated bound" or "-"."""
     return mode.get("uncertainty_basis") or "-"
-
-
-def format_summary_table(summary: Mapping) -> str:
-    """The plain-text table printed at the end of a run (mode, f and Q with their
-    uncertainties, Q/Chu, where the uncertainty comes from, bands hit).
-
-    When a conductor Q is known, "Q solver" (the ring-down's) and "Q cond" follow the
-    combined "Q".
-
-    Columns are aligned with spaces; numbers are right-aligned. A run with no modes
-    gives one line saying so.
-    """
-    data = validate_summary(summary)
-    modes = data["modes"]
-    if not modes:
-        return "no resonances found in the analysed spectrum"
-    header = ["mode", "frequency", "Q", "Q/Q_Chu", "uncertainty from", "bands hit"]
-    rows = [[str(m["index"]), frequency_text(m), q_text(m), q_over_chu_text(m), basis_text(m),
-             _bands_hit(m)] for m in modes]
-    right = [True, True, True, True, False, False]
-    if any(m.get("q_conductor") is not None for m in modes):
-        header[3:3] = ["Q solver", "Q cond"]
-        right[3:3] = [True, True]
-        for r, m in zip(rows, modes):
-            r[3:3] = [format_q(m.get("q_solver", m["q"])), format_q(m.get("q_conductor"))]
-    if any("rings_in" in m for m in modes):
-        header.append("rings in")
-        right.append(False)
-        for r, m in zip(rows, modes):
-            r.append(m.get("rings_in") or "(air)")
-    widths = [max(len(r[c]) for r in rows + [header]) for c in range(len(header))]
-
-    def line(cells):
-        parts = [c.rjust(w) if r else c.ljust(w) for c, w, r in zip(cells, widths, right)]
-        return "  ".join(parts).rstrip()
-
-    rule = "  ".join("-" * w for w in widths)
-    return "\n".join([line(header), rule] + [line(r) for r in rows])

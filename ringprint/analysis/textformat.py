@@ -13,7 +13,8 @@ import math
 
 __all__ = ["format_frequency", "format_q", "format_error", "format_percent",
            "format_sci", "format_number", "format_si", "format_bytes", "format_duration", "significant",
-           "round_with_uncertainty", "format_frequency_pm", "format_q_pm", "format_like"]
+           "round_with_uncertainty", "format_frequency_pm", "format_frequency_as_pm", "format_q_pm",
+           "format_like"]
 
 MISSING = "-"
 
@@ -113,6 +114,17 @@ def format_frequency_pm(hz, u_hz=None, rel_error=None) -> str:
     scale, unit = _frequency_unit(float(hz))
     value, unc, _ = round_with_uncertainty(float(hz) / scale, float(u_hz) / scale)
     return f"{value} \u00b1 {unc} {unit}"
+
+
+def format_frequency_as_pm(hz, u_hz=None, rel_error=None) -> str:
+    """The frequency alone, rounded exactly as :func:`format_frequency_pm` rounds it
+    (``"2.410 GHz"`` for ``2.410 ± 0.012 GHz``): for plots and sentences where the
+    uncertainty is said elsewhere, so one mode reads the same everywhere."""
+    text = format_frequency_pm(hz, u_hz, rel_error)
+    if " \u00b1 " not in text:
+        return text
+    value, rest = text.split(" \u00b1 ", 1)
+    return f"{value} {rest.split(' ', 1)[1]}"
 
 
 def format_q_pm(q, u_q=None) -> str:

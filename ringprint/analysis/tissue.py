@@ -59,6 +59,12 @@ def _library() -> MappingProxyType:
     return MappingProxyType(out)
 
 
+@functools.cache
+def _aliases() -> dict[str, str]:
+    text = resources.files("ringprint.analysis").joinpath("data/tissue.toml").read_text("utf-8")
+    return {old: name for name, t in tomllib.loads(text).items() for old in t.get("aliases", [])}
+
+
 #: Names of the tissues in the library.
 TISSUES: tuple[str, ...] = tuple(_library())
 
@@ -118,6 +124,7 @@ def cole_cole_permittivity(frequency_hz, eps_inf, delta_eps, tau_s, alpha, sigma
 
 def _params(name: str) -> dict:
     lib = _library()
+    name = _aliases().get(name, name)
     if name not in lib:
         near = difflib.get_close_matches(str(name), TISSUES, n=1)
         hint = f"did you mean {near[0]!r}? " if near else ""
@@ -131,7 +138,7 @@ def tissue_permittivity(name: str, frequency_hz):
     Parameters
     ----------
     name : str
-        One of :data:`TISSUES` (``"skin_dry"``, ``"skin_wet"``, ``"muscle"``, ``"fat"``,
+        One of :data:`TISSUES` (``"skin-dry"``, ``"skin-wet"``, ``"muscle"``, ``"fat"``,
         ``"blood"``).
     frequency_hz : float or array_like
         Frequency (Hz), from 10 Hz to 100 GHz.

@@ -292,7 +292,7 @@ def _map(fs: FieldSet, mode, tissue, surf: TouchSurface, depolarization=FINGERTI
                     shift_percent=shift_percent(delta, m.q), q_after=q_after(delta, m.q))
 
 
-def touch_map(fs: FieldSet, mode, tissue="skin_dry", pad_radius_m: float = DEFAULT_PAD_RADIUS_M,
+def touch_map(fs: FieldSet, mode, tissue="skin-dry", pad_radius_m: float = DEFAULT_PAD_RADIUS_M,
               depolarization=FINGERTIP_DEPOLARIZATION, method: str = "auto") -> TouchMap:
     """Predicted detuning of one mode by a fingertip at every touch point of the outer surface.
 
@@ -338,7 +338,7 @@ def touch_map(fs: FieldSet, mode, tissue="skin_dry", pad_radius_m: float = DEFAU
     return _map(fs, m, tissue, TouchSurface(fs, pad_radius_m, method), depolarization)
 
 
-def touch_maps(fs: FieldSet, tissue="skin_dry", pad_radius_m: float = DEFAULT_PAD_RADIUS_M,
+def touch_maps(fs: FieldSet, tissue="skin-dry", pad_radius_m: float = DEFAULT_PAD_RADIUS_M,
                depolarization=FINGERTIP_DEPOLARIZATION, method: str = "auto") -> dict:
     """:func:`touch_map` for every mode of ``fs``: ``{mode index: TouchMap}`` (surface found once)."""
     surf = TouchSurface(fs, pad_radius_m, method)

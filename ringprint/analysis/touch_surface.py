@@ -2,7 +2,14 @@
 
 The map's geometry (:func:`ringprint.analysis.touch.touch_map`). Touch points are the
 exterior air nodes next to the solid (exterior: air connected to the lattice boundary,
-so air sealed inside a part is never touched). Each point's outward normal is minus the gradient of the solid indicator
+so air sealed inside a part is never touched). The solid is every node inside a part
+or on a conductor. A wall thinner than a node spacing may hold no node at all (the part
+mask takes nodes at least half inside), yet it sits on the Yee edges between two nodes,
+and both of them then carry material (their mean permittivity is above air's, or a
+conductivity): such a link is a wall, not a way through. So the outside is the air
+reached from the lattice boundary along links that are not walls; without that rule the
+air inside a thin housing counted as outside, and the "touch" spots sat on the parts
+inside it (the tag demo: its 1.5 mm housing wall on 1.8 mm cells). Each point's outward normal is minus the gradient of the solid indicator
 smoothed by a Gaussian of one node. The pad at a touch point is every exterior node
 within ``pad_radius_m`` of it: a ball of tissue cut by the surface, about a fingertip
 pressed flat (default radius 5 mm, a contact about 10 mm across, common practice). On a
@@ -30,7 +37,8 @@ from scipy.spatial import cKDTree
 from ringprint.analysis.fieldset import FieldSet, ModeField
 from ringprint.errors import RingprintError
 
-__all__ = ["PAD_METHODS", "TouchSurface", "exterior_air", "pad_sums", "solid_nodes", "touch_points"]
+__all__ = ["PAD_METHODS", "TouchSurface", "exterior_air", "material_nodes", "pad_sums", "solid_nodes",
+           "touch_points"]
 
 #: How the pad sums are taken: "auto" (FFT on a uniform lattice, else direct), "fft", "direct".
 PAD_METHODS = ("auto", "fft", "direct")
@@ -40,38 +48,72 @@ _DIRECT_BLOCK = 2048
 PAIRS = ((0, 0), (1, 1), (2, 2), (0, 1), (0, 2), (1, 2))
 
 
+#: A node's permittivity above this (the mean over its six edges) means material there.
+MATERIAL_EPS = 1.0 + 1e-4
+
+
 def solid_nodes(fs: FieldSet) -> np.ndarray:
     """Nodes inside a part or on a conductor (what a hand cannot enter)."""
     return fs.solid() | np.asarray(fs.pec, dtype=bool)
 
 
+def material_nodes(fs: FieldSet) -> np.ndarray:
+    """Nodes inside a part or with any material on their edges (permittivity, conductivity)."""
+    material = (np.asarray(fs.eps_r) > MATERIAL_EPS) | (np.asarray(fs.sigma) > 0)
+    return solid_nodes(fs) | material
+
+
 def exterior_air(fs: FieldSet) -> np.ndarray:
-    """Air nodes connected (6-neighbour) to the lattice boundary: the air a hand can reach."""
+    """Air nodes reached from the lattice boundary through air: the air a hand can reach.
+
+    Links join 6-neighbour air nodes, except where both ends carry material (a wall lies
+    between them; module docstring)."""
     solid = solid_nodes(fs)
     if not solid.any():
         raise RingprintError("the lattice has no solid part to touch; a touch map needs at least one part")
-    labels, _ = ndimage.label(~solid)
+    from scipy.sparse import coo_matrix
+    from scipy.sparse.csgraph import connected_components
+
+    touched = material_nodes(fs)
+    ids = np.arange(solid.size).reshape(solid.shape)
+    rows, cols = [], []
+    for a in range(3):
+        lo = [slice(None)] * 3
+        hi = [slice(None)] * 3
+        lo[a], hi[a] = slice(0, -1), slice(1, None)
+        lo, hi = tuple(lo), tuple(hi)
+        link = ~solid[lo] & ~solid[hi] & ~(touched[lo] & touched[hi])
+        rows.append(ids[lo][link])
+        cols.append(ids[hi][link])
+    rows, cols = np.concatenate(rows), np.concatenate(cols)
+    graph = coo_matrix((np.ones(rows.size, np.int8), (rows, cols)), shape=(solid.size, solid.size))
+    _, labels = connected_components(graph, directed=False)
+    labels = labels.reshape(solid.shape)
     faces = np.concatenate([labels[[0, -1]].ravel(), labels[:, [0, -1]].ravel(),
                             labels[:, :, [0, -1]].ravel()])
-    outside = np.unique(faces[faces > 0])
+    boundary_air = np.concatenate([(~solid)[[0, -1]].ravel(), (~solid)[:, [0, -1]].ravel(),
+                                   (~solid)[:, :, [0, -1]].ravel()])
+    outside = np.unique(faces[boundary_air])
     if outside.size == 0:
         raise RingprintError("no air reaches the lattice boundary, so nothing can be touched; "
                              "leave air around the parts")
-    return np.isin(labels, outside)
+    return np.isin(labels, outside) & ~solid
 
 
 def touch_points(fs: FieldSet, exterior: np.ndarray | None = None):
     """Touch nodes and their outward unit normals.
 
-    Returns ``(index (m, 3) int, normals (m, 3))``: exterior air nodes with a solid
-    6-neighbour, and minus the gradient (central differences) of the solid indicator
-    smoothed by a Gaussian of one node. Where that gradient vanishes (a node midway in
+    Returns ``(index (m, 3) int, normals (m, 3))``: exterior air nodes beside the
+    inside (a 6-neighbour that is solid, or is not exterior, or material on the node
+    itself: a thin wall beside it), and minus the gradient (central differences) of the
+    inside indicator (every node that is not exterior air) smoothed by a Gaussian of one
+    node. Where that gradient vanishes (a node midway in
     a one-node slot) the normal is the axis with most solid neighbours; its sign is
     then arbitrary, which the local-field correction does not see.
     """
-    solid = solid_nodes(fs)
     ext = exterior_air(fs) if exterior is None else exterior
-    idx = np.argwhere(ext & ndimage.binary_dilation(solid))
+    solid = ~ext
+    idx = np.argwhere(ext & (ndimage.binary_dilation(solid) | material_nodes(fs)))
     if idx.shape[0] == 0:
         raise RingprintError("no outside air node touches a part, so nothing can be touched; "
                              "leave air around the parts")

@@ -13,7 +13,7 @@ looking at a model, one value per *cell* is easier to read, so this module makes
   one of whose three centre lines it crosses (:func:`ringprint.meshing.surface_cuts`
   on the grids ``(x, yc, zc)``, ``(xc, y, zc)``, ``(xc, yc, z)``): a plate then
   shows as one layer of cells however it is tilted, where the centre rule alone
-  would lose it. Where parts overlap, the higher ``priority`` wins, else the later
+  would lose it. Where parts overlap, the higher ``overlap_rank`` wins, else the later
   part in the case (the rule of :func:`ringprint.meshing.resolve_overlaps`).
 - **eps_r**: the mean relative permittivity of the cell's 12 edges (what the solver
   uses, averaged for display; PEC edges count as 1).
@@ -41,8 +41,11 @@ __all__ = ["cell_centres", "cell_owners", "shows_crossed_cells", "cell_eps_r", "
 #: Okabe & Ito's palette for colour-blind readers (orange, sky blue, bluish green,
 #: yellow, blue, vermillion, reddish purple), used for dielectric materials in turn.
 DIELECTRIC_COLOURS = ("#E69F00", "#56B4E9", "#009E73", "#F0E442", "#0072B2", "#D55E00", "#CC79A7")
-#: Conductors are drawn opaque in a metallic grey.
-CONDUCTOR_COLOUR = "#8C8C8C"
+#: Conductors are drawn opaque, each its own colour: metallic greys and dark tones that
+#: no dielectric uses, so that touching metal parts (a can on its ground) stay apart.
+CONDUCTOR_COLOURS = ("#8C8C8C", "#4D4D4D", "#1B5E7A", "#7A3B69", "#5C6B2E", "#8E1B1B", "#B8B8B8")
+#: The probe loop: drawn as a thick line in this colour (used by nothing else).
+PROBE_COLOUR = "#E7298A"
 DIELECTRIC_OPACITY = 0.3
 
 
@@ -99,7 +102,7 @@ def cell_owners(model: Model) -> np.ndarray:
     """
     grid = model.grid
     ids = np.zeros(tuple(n - 1 for n in grid.shape), np.int32)
-    order = sorted(range(len(model.parts)), key=lambda i: (model.parts[i].part.priority, i))
+    order = sorted(range(len(model.parts)), key=lambda i: (model.parts[i].part.overlap_rank, i))
     for i in order:
         p = model.parts[i]
         crossed = shows_crossed_cells(p)
@@ -152,13 +155,16 @@ def material_label(part_model) -> str:
 
 
 def material_colours(model: Model) -> list:
-    """``(colour, opacity)`` per part: conductors grey and opaque, each dielectric
-    material (by label) its own colour from :data:`DIELECTRIC_COLOURS`, translucent."""
+    """``(colour, opacity)`` per part: each conductor part its own opaque colour from
+    :data:`CONDUCTOR_COLOURS`, each dielectric material (by label) its own colour from
+    :data:`DIELECTRIC_COLOURS`, translucent."""
     by_material: dict = {}
     out = []
+    metals = 0
     for p in model.parts:
         if p.is_conductor:
-            out.append((CONDUCTOR_COLOUR, 1.0))
+            out.append((CONDUCTOR_COLOURS[metals % len(CONDUCTOR_COLOURS)], 1.0))
+            metals += 1
             continue
         label = material_label(p)
         if label not in by_material:
@@ -219,12 +225,13 @@ def _legend(plotter, entries) -> None:
     box.ScalarVisibilityOn()
 
 
-def render_preview(model: Model, image, path, window_size=(1200, 900)) -> None:
+def render_preview(model: Model, image, path, window_size=(1200, 900), probe=None) -> None:
     """Draw the voxel model off screen into the PNG file ``path``.
 
-    Parts are coloured by material (:func:`material_colours`); the domain's outer
-    edge and the inner face of the absorbing layer are drawn as wire boxes; a legend
-    names every part. Needs no display (``Plotter(off_screen=True)``).
+    Parts are coloured by :func:`material_colours`; the domain's outer edge and the
+    inner face of the absorbing layer are drawn as wire boxes; ``probe`` (corners (4, 3)
+    in metres, e.g. :func:`ringprint.analysis.field_plots.probe_corners`) as a thick
+    closed line; a legend names every part. Needs no display (``Plotter(off_screen=True)``).
     """
     import pyvista as pv
 
@@ -252,6 +259,11 @@ def render_preview(model: Model, image, path, window_size=(1200, 900)) -> None:
             plotter.add_mesh(_box(lo, hi), style="wireframe", color="#999999", line_width=1)
             plotter.add_mesh(_box([a[bc] for a in grid.axes], [a[-1 - bc] for a in grid.axes]),
                              style="wireframe", color="black", line_width=2)
+            if probe is not None:
+                loop = np.vstack([probe, probe[:1]])
+                plotter.add_mesh(pv.lines_from_points(loop), color=PROBE_COLOUR, line_width=5,
+                                 render_lines_as_tubes=True)
+                legend.append(["probe loop", PROBE_COLOUR])
             legend.append(["domain edge", "#999999"])
             legend.append([f"absorbing layer inner face ({grid.boundary_cells} cells)", "black"])
             _legend(plotter, legend)

@@ -8,26 +8,26 @@ from ringprint.errors import RingprintError
 from ringprint.meshing._boxes import COMPONENTS, EdgeBox
 
 
-def resolve_overlaps(fills, shapes, priority=None):
+def resolve_overlaps(fills, shapes, rank=None):
     """Clip overlapping fill fractions so that every sub-ray is shared out at most once.
 
-    Rule: parts claim edges in order of decreasing ``priority``; among equal
-    priorities (or with no priorities) the part later in ``fills`` wins. Along each
+    Rule: parts claim edges in order of decreasing overlap ``rank``; among equal
+    ranks (or with no ranks) the part later in ``fills`` wins. Along each
     sub-ray a part keeps ``min(f, 1 - claimed)`` where ``claimed`` is what the parts
     before it took. This is exact when the parts do not overlap (nothing is clipped)
     and when an overlapping part lies wholly inside the winner along the segment,
     the usual case (a screw in a frame, a battery in a housing). Surface-cut masks of
     a winner clear nothing: a conductor sheet stays where it is; nor do the exact
     edge-line and face fractions of conformal metal (a conductor keeps its whole
-    shape where a higher-priority dielectric overlaps it).
+    shape where a higher-ranked dielectric overlaps it).
 
     Parameters
     ----------
     fills : list of PartFill
     shapes : dict
         Full edge-array shapes ``{"x": (Nx-1, Ny, Nz), "y": ..., "z": ...}``.
-    priority : list of float or None
-        One per fill; larger wins.
+    rank : list of float or None
+        One per fill (the case's ``overlap_rank``); larger wins.
 
     Returns
     -------
@@ -35,10 +35,10 @@ def resolve_overlaps(fills, shapes, priority=None):
         Same order as ``fills``; fractions clipped, so that for each edge and sub-ray
         ``sum over parts <= 1`` and the rest is background.
     """
-    if priority is not None and len(priority) != len(fills):
-        raise RingprintError(f"priority has {len(priority)} entries for {len(fills)} parts: give one per part")
-    prio = np.zeros(len(fills)) if priority is None else np.asarray(priority, float)
-    # stable sort on (-priority, -position): higher priority first, then later part first
+    if rank is not None and len(rank) != len(fills):
+        raise RingprintError(f"rank has {len(rank)} entries for {len(fills)} parts: give one per part")
+    prio = np.zeros(len(fills)) if rank is None else np.asarray(rank, float)
+    # stable sort on (-rank, -position): higher rank first, then later part first
     order = sorted(range(len(fills)), key=lambda i: (-prio[i], -i))
     solids = [i for i in order if fills[i].fractions is not None]
     n = {fills[i].subrays for i in solids}

@@ -46,7 +46,7 @@ prefix = "left-"
 [[assembly.rule]]
 match = "FRAME*"
 material = "pec"
-priority = 2
+overlap_rank = 2
 
 [[assembly.rule]]
 match = "shield can"
@@ -76,11 +76,22 @@ def test_rules_make_parts(tmp_path):
     assert list(got) == ["plate", "left-Frame Left", "hs-Frame Right", "hs-Shield Can"]  # Battery skipped
     left, right, can = got["left-Frame Left"], got["hs-Frame Right"], got["hs-Shield Can"]
     assert left.material_name == "fr4"            # the first matching rule wins
-    assert right.material.is_pec and right.priority == 2 and can.priority == 0
+    assert right.material.is_pec and right.overlap_rank == 2 and can.overlap_rank == 0
     assert (left.body, right.body, can.body) == ("Frame Left", "Frame Right", "Shield Can")
     assert all(p.file == tmp_path / "handset.step" for p in (left, right, can))
     assert right.translate_m == pytest.approx((1e-3, 2e-3, 3e-3))  # assembly placement, in metres
     assert got["plate"].body is None
+
+
+def test_old_priority_key_still_works(tmp_path):
+    """``priority`` (renamed ``overlap_rank``, issue 13) on an assembly and a rule: same
+    parts, one note."""
+    body = ASSEMBLY.replace("overlap_rank = 2", "priority = 2").replace(
+        'prefix = "hs-"', 'prefix = "hs-"\npriority = 1')
+    case = load_case(_case(tmp_path, body))
+    got = {p.name: p.overlap_rank for p in case.parts}
+    assert got == {"plate": 0, "left-Frame Left": 1, "hs-Frame Right": 2, "hs-Shield Can": 1}
+    assert len(case.notes) == 1 and "'priority' is now called 'overlap_rank'" in case.notes[0]
 
 
 def test_surfaces_are_the_bodies_in_place(tmp_path):

@@ -8,12 +8,12 @@ from hypothesis import given, strategies as st
 from scipy.integrate import quad
 
 from ringprint.analysis.bands import (CLEAR, DEFAULT_MARGIN, INSIDE, NEAR, Band, judge,
-                                      preset_bands, preset_names, rank_hazards)
+                                      preset_bands, preset_names, preset_renamed, rank_hazards)
 from ringprint.errors import RingprintError
 
 LTE = [1, 2, 3, 4, 5, 7, 8, 12, 13, 14, 17, 20, 25, 26, 28, 38, 40, 41, 66, 71]
 OTHERS = ["nr-n77", "nr-n78", "nr-n79", "gps-l1", "gps-l2", "gps-l5", "galileo-e1", "galileo-e5a",
-          "galileo-e5b", "glonass-l1", "beidou-b1i", "wifi-2g4", "wifi-5g", "wifi-6g", "ism-433",
+          "galileo-e5b", "glonass-l1", "beidou-b1i", "wifi-2g4", "wifi-5ghz", "wifi-6ghz", "ism-433",
           "srd-868", "ism-915", "ism-2g4", "ism-5g8", "uwb-ch5", "uwb-ch9", "gnss", "wifi"]
 MHZ = 1e6
 
@@ -85,8 +85,8 @@ def test_uwb_channels_are_multiples_of_499_2_mhz():
 def test_wifi_channel_plans_fit_their_presets():
     """IEEE 802.11 channel centres: 2407 + 5 n MHz (2.4 GHz, n = 1..13), 5000 + 5 n
     (5 GHz, n = 32..177), 5950 + 5 n (6 GHz, n = 1..233), 20 MHz channels."""
-    for name, base, chans in [("wifi-2g4", 2407, range(1, 14)), ("wifi-5g", 5000, range(32, 178, 4)),
-                              ("wifi-6g", 5950, range(1, 234, 4))]:
+    for name, base, chans in [("wifi-2g4", 2407, range(1, 14)), ("wifi-5ghz", 5000, range(32, 178, 4)),
+                              ("wifi-6ghz", 5950, range(1, 234, 4))]:
         lo, hi = edges(name)
         centres = base + 5 * np.array(list(chans))
         assert lo <= centres.min() - 10 and centres.max() + 10 <= hi, name
@@ -95,7 +95,16 @@ def test_wifi_channel_plans_fit_their_presets():
 def test_groups_select_their_members():
     gnss = {b.name for b in preset_bands("gnss")}
     assert {"gps-l1", "gps-l5", "galileo-e1", "beidou-b1i", "glonass-l1"} <= gnss
-    assert [b.name for b in preset_bands("wifi")] == ["wifi-2g4", "wifi-5g", "wifi-6g"]
+    assert [b.name for b in preset_bands("wifi")] == ["wifi-2g4", "wifi-5ghz", "wifi-6ghz"]
+
+
+def test_renamed_wifi_presets_keep_their_old_names():
+    """wifi-5g / wifi-6g read like 5G / 6G cellular (issue 13): now wifi-5ghz / wifi-6ghz;
+    the old names still select the same band, under its new name."""
+    for old, new in (("wifi-5g", "wifi-5ghz"), ("wifi-6g", "wifi-6ghz")):
+        assert preset_bands(old) == preset_bands(new) and preset_bands(old)[0].name == new
+        assert preset_renamed(old) == new and preset_renamed(new) is None
+    assert "wifi-5g" not in preset_names()
 
 
 def test_unknown_preset_suggests_names():

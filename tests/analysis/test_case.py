@@ -30,7 +30,7 @@ BAD_CASES = sorted(CORPUS.glob("*.toml"))
 EXAMPLE = """\
 title = "Asset tag, 2.4 GHz radio and GNSS"
 units = "mm"
-bands = ["lte-b7", "gps-l1"]
+band_presets = ["lte-b7", "gps-l1"]
 
 [spectrum]
 f_min = "0.6 GHz"
@@ -49,7 +49,7 @@ translate = [1.0, -2.0, 0.5]
 rotate = { axis = [0, 0, 1], degrees = 90 }
 scale = 2.0
 mirror = "x"
-priority = 3
+overlap_rank = 3
 
 [[band]]
 name = "telemetry"
@@ -136,13 +136,13 @@ def test_example_case_in_si(tmp_path):
     assert case.title.startswith("Asset tag")
     assert case.unit_m == 1e-3
     assert case.spectrum.f_min_hz == 0.6e9 and case.spectrum.f_max_hz == 6e9
-    # default loss conversion frequency: the geometric centre
-    assert case.spectrum.loss_at_hz == pytest.approx(math.sqrt(0.6e9 * 6e9), rel=1e-15)
+    # default loss conversion frequency: the geometric centre, to 4 digits (1.897 GHz)
+    assert case.spectrum.loss_at_hz == float(f"{math.sqrt(0.6e9 * 6e9):.4g}") == 1.897e9
     ground, housing = case.parts
     assert ground.material.is_pec and ground.material_name == "pec"
     assert ground.file == (tmp_path / "tag" / "pcb_ground.stl").resolve() and ground.file.is_absolute()
     assert housing.translate_m == pytest.approx((1e-3, -2e-3, 0.5e-3), rel=1e-15)
-    assert (housing.scale, housing.mirror, housing.priority) == (2.0, "x", 3)
+    assert (housing.scale, housing.mirror, housing.overlap_rank) == (2.0, "x", 3)
     assert case.probe.at_m == pytest.approx((0.012, 0.004, 0.0035), rel=1e-15)
     assert case.probe.size_m == pytest.approx(0.002) and case.probe.normal == "z"
     assert case.grid.padding_m == pytest.approx(0.015) and case.grid.cells_per_wavelength == 20
@@ -160,6 +160,7 @@ def test_defaults(tmp_path):
     assert case.bands == ()
     assert case.analysis.q_max == 200 and case.analysis.detuning_margin == 0.03
     assert case.grid.cells_per_wavelength == 20 and case.grid.absorber_cells == 10
+    assert case.notes == ()
     # padding default: the radiansphere radius lambda/(2 pi) at sqrt(f_min f_max) (Wheeler 1947)
     assert case.grid.padding_m == pytest.approx(C0 / (2 * math.pi * 2e9), rel=1e-12)
     assert case.output.fields and case.output.images
@@ -182,7 +183,8 @@ def test_length_units(tmp_path, units, metres):
 
 @pytest.mark.parametrize("text, hz", [("600MHz", 600e6), ("0.6 GHz", 600e6), ("2.4 ghz", 2.4e9),
                                       ("433.92e6 Hz", 433.92e6), ("13560 kHz", 13.56e6),
-                                      (2.4e9, 2.4e9), (50, 50.0), ("1e9", 1e9)])
+                                      (2.4e9, 2.4e9), ("50 Hz", 50.0), (5e6, 5e6), ("1e9", 1e9),
+                                      ("700 mhz", 700e6), ("700 MHZ", 700e6)])
 def test_frequency_forms(text, hz):
     assert parse_frequency(text) == pytest.approx(hz, rel=1e-15)
 
@@ -275,6 +277,46 @@ def test_resolved_toml_round_trip(tmp_path):
     again.write_text(text)
     back = load_case(again)
     assert back.resolved() == case.resolved()
+    assert back.digest() == case.digest()
+
+
+def test_old_key_names_still_work_with_one_note_each(tmp_path):
+    """Renamed keys (issue 13): bands -> band_presets, priority -> overlap_rank,
+    [grid] absorber_cells -> cpml_cells, band preset wifi-5g -> wifi-5ghz. The old
+    spelling gives the same case and one note per old name, however often it is used."""
+    new = load_case(write_case(tmp_path, EXAMPLE.replace('"gps-l1"', '"gps-l1", "wifi-5ghz"')
+                               .replace("padding = 15.0\n", "padding = 15.0\ncpml_cells = 12\n")))
+    old_text = (EXAMPLE.replace("band_presets = ", "bands = ").replace('"gps-l1"', '"gps-l1", "wifi-5g"')
+                .replace("overlap_rank = 3", "priority = 3")
+                .replace('material = "pec"', 'material = "pec"\npriority = 0')
+                .replace("padding = 15.0\n", "padding = 15.0\nabsorber_cells = 12\n"))
+    old = load_case(write_case(tmp_path, old_text, name="old.toml"))
+    assert old.resolved() == new.resolved() and old.digest() == new.digest()
+    assert [b.name for b in old.bands] == [b.name for b in new.bands]
+    assert new.notes == ()
+    assert len(old.notes) == 4, old.notes                    # priority used twice: one note
+    for old_name, new_name in (("bands", "band_presets"), ("priority", "overlap_rank"),
+                               ("absorber_cells", "cpml_cells"), ("wifi-5g", "wifi-5ghz")):
+        assert sum(f"'{old_name}' is now called '{new_name}'" in n for n in old.notes) == 1, old.notes
+    with pytest.raises(RingprintError, match="old name of 'overlap_rank'"):
+        load_case(write_case(tmp_path, new_text := EXAMPLE.replace(
+            "overlap_rank = 3", "overlap_rank = 3\npriority = 1"), name="both.toml"))
+    assert new_text
+
+
+def test_resolved_toml_is_readable(tmp_path):
+    """case.resolved.toml (issue 13): part files relative to the folder it is written to,
+    the default loss_at rounded, every vector on one line; and it loads back from there."""
+    case = load_case(write_case(tmp_path))
+    out = tmp_path / "run"
+    out.mkdir()
+    text = case.resolved_toml(relative_to=out)
+    assert 'file = "../tag/pcb_ground.stl"' in text and str(tmp_path) not in text
+    assert 'loss_at = "1.897 GHz"' in text
+    assert "translate = [1.0, -2.0, 0.5]" in text and "axis = [0.0, 0.0, 1.0]" in text
+    assert not re.search(r"\[\n\s+[-\d]", text), text
+    (out / "case.resolved.toml").write_text(text)
+    back = load_case(out / "case.resolved.toml")
     assert back.digest() == case.digest()
 
 

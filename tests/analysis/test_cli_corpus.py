@@ -119,6 +119,32 @@ def test_grid_too_large_for_memory(tmp_path, capsys):
     assert_nothing_written(out)
 
 
+def test_frequencies_too_low_for_the_parts(tmp_path, capsys):
+    """A spectrum in kHz (meant GHz) made one cell larger than the whole part and ended in
+    an internal error (issue 13): refused in one line, in the case's unit. The air cell
+    is c0 / (f_max n) = 3e8 / (5e3 x 20) m = 3 km."""
+    case = minimal_case(tmp_path, _plate(tmp_path))
+    case.write_text(case.read_text().replace('"1 GHz"', '"1 kHz"').replace('"3 GHz"', '"5 kHz"'))
+    out = tmp_path / "out"
+    code, lines = run_cli(["mesh", str(case), "--out", str(out)], capsys)
+    assert_one_line_error(code, lines, str(case), "f_max = 5 kHz makes one cell (3e+06 mm) larger "
+                          "than all the parts together (10 mm across)", 'write e.g. f_max = "5 GHz"')
+    assert_nothing_written(out)
+
+
+def test_units_slip_gets_a_hint(tmp_path, capsys):
+    """units = "m" for a mesh drawn in mm: a 10 mm plate becomes 10 m and the memory
+    check refuses (200 cells per wavelength at 3 GHz: 0.5 mm cells over 10 x 8 m, some
+    3e10 cells); the message says how large the parts came out and the likely unit."""
+    case = minimal_case(tmp_path, _plate(tmp_path), units="m",
+                        extra="[grid]\ncells_per_wavelength = 200\n")
+    out = tmp_path / "out"
+    code, lines = run_cli(["mesh", str(case), "--out", str(out)], capsys)
+    assert_one_line_error(code, lines, str(case), "GiB", 'the parts came out 10 m across (units = "m")',
+                          'if the meshes are drawn in mm, set units = "mm"')
+    assert_nothing_written(out)
+
+
 def test_out_dir_is_a_file(tmp_path, capsys):
     case = minimal_case(tmp_path, _plate(tmp_path))
     out = tmp_path / "taken"

@@ -139,3 +139,13 @@ def test_command_line_prints_nothing_on_stderr(results, tmp_path):
     assert done.returncode == 0, done.stderr
     assert done.stderr == ""
     assert png.read_bytes().startswith(PNG_SIGNATURE)
+
+
+def test_title_writes_f_and_q_as_the_report_does():
+    """Issue 13: one mode reads the same everywhere; the 3-D view's title too."""
+    from ringprint.analysis import cmd_show
+
+    summary = {"modes": [{"index": 1, "frequency_hz": 2.28196e9, "q": 1.7947,
+                          "frequency_uncertainty_hz": 7e7, "q_uncertainty": 0.5}]}
+    assert cmd_show._title(summary, 1) == "mode 1, 2.28 GHz, Q 1.8"
+    assert cmd_show._title({"modes": []}, 1) is None

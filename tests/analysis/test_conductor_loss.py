@@ -22,7 +22,8 @@ from ringprint.analysis.bands import Band
 from ringprint.analysis.fieldset import FieldSet, ModeField
 from ringprint.analysis.materials import get_material, skin_depth, surface_resistance
 from ringprint.analysis.modes import judge_modes
-from ringprint.analysis.results import csv_rows, format_summary_table
+from ringprint.analysis.results import csv_rows
+from ringprint.analysis.summary_table import format_summary_table
 from ringprint.analysis.report import build_report_html
 from ringprint.errors import RingprintError
 from ringprint.meshing import primitives

@@ -158,3 +158,15 @@ def test_conversion_inputs_are_checked():
         loss_tangent_to_sigma(0.01, 3.0, 0.0)
     with pytest.raises(RingprintError, match="loss_tangent must be >= 0"):
         loss_tangent_to_sigma(-0.01, 3.0, 1e9)
+
+
+def test_ceramic_laminates_carry_rounded_class_values():
+    """Issue 13: the two ceramic-laminate entries carry rounded class values (eps_r to one
+    decimal, loss tangent to one significant digit) and say so, rather than the data
+    sheet of any one commercial grade."""
+    for name in ("ptfe-ceramic-laminate", "hydrocarbon-ceramic-laminate"):
+        m = get_material(name)
+        assert round(m.eps_r, 1) == m.eps_r
+        assert float(f"{m.loss_tangent:.0e}") == m.loss_tangent
+        assert "class values" in m.source and "no one grade" in m.source
+

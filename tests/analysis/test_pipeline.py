@@ -120,6 +120,7 @@ def test_resume_refuses_a_directory_without_checkpoint(tmp_path, capsys):
     code = cli.main(["run", str(case), "--out", str(tmp_path / "empty"), "--resume", "--quiet"])
     err = capsys.readouterr().err
     assert code == 1 and "no checkpoint" in err and "Traceback" not in err
+    assert not (tmp_path / "empty").exists()       # refused before the folder was made (issue 13)
 
 
 def test_resume_refuses_another_cases_checkpoint(strip_run, tmp_path):
@@ -133,12 +134,23 @@ def test_resume_refuses_another_cases_checkpoint(strip_run, tmp_path):
         run_case(changed, out, resume=True, progress=False, echo=None)
 
 
+def test_a_halted_run_says_so_in_its_log(tmp_path):
+    """A run stopped on purpose (halt_after_steps) is not logged as failed (issue 13)."""
+    with pytest.raises(RunHalted):
+        run_case(_case(tmp_path), tmp_path / "o", progress=False, echo=None, halt_after_steps=20)
+    log = (tmp_path / "o" / "run.log").read_text()
+    assert "run halted after step" in log.strip().splitlines()[-1] and "run failed" not in log
+
+
 def test_probe_inside_a_conductor_is_refused(tmp_path, capsys):
     case = _case(tmp_path, extra='[probe]\nat = [0.0, 0.0, 0.0]\nnormal = "z"\nsize = 2.0\n')
     code = cli.main(["run", str(case), "--out", str(tmp_path / "o"), "--quiet"])
     err = capsys.readouterr().err.strip().splitlines()
     assert code == 1 and len(err) == 1 and "touches a conductor" in err[0]
     assert not (tmp_path / "o" / "modes.json").exists()
+    # the log of the failed run ends with the error line (issue 13)
+    last = (tmp_path / "o" / "run.log").read_text().strip().splitlines()[-1]
+    assert "ERROR" in last and "run failed" in last and "touches a conductor" in last, last
 
 
 def test_output_directory_that_is_a_file(tmp_path, capsys):

@@ -26,7 +26,8 @@ from ringprint.analysis.outputs import TEMP_MARKER
 from ringprint.analysis.plots import check_spectrum, render_spectrum_png, spectrum_from_record
 from ringprint.analysis.report import (SAFETY_NOTE, build_report_html, write_report_html,
                                        write_results)
-from ringprint.analysis.results import (CSV_COLUMNS, MODE_KEYS, format_summary_table,
+from ringprint.analysis.summary_table import format_summary_table
+from ringprint.analysis.results import (CSV_COLUMNS, MODE_KEYS,
                                         hazards_from_modes, validate_summary, write_csv,
                                         write_json)
 from ringprint.analysis.textformat import (format_bytes, format_duration, format_error,
@@ -183,12 +184,14 @@ def test_csv_one_row_per_mode_with_contract_columns(written):
     with open(out / "modes.csv", newline="", encoding="utf-8") as fh:
         rows = list(csv.DictReader(fh))
     assert len(rows) == len(summary["modes"])
-    assert set(MODE_KEYS) <= set(rows[0]) and list(rows[0])[:len(CSV_COLUMNS)] == list(CSV_COLUMNS)
+    assert set(MODE_KEYS) - {"error"} <= set(rows[0]) and list(rows[0])[:len(CSV_COLUMNS)] == list(CSV_COLUMNS)
     for row, mode in zip(rows, summary["modes"]):
         assert int(row["index"]) == mode["index"]
-        for key in ("frequency_hz", "q", "decay_rate_per_s", "amplitude", "error"):
+        for key in ("frequency_hz", "q", "decay_rate_per_s", "amplitude"):
             assert float(row[key]) == mode[key]  # full precision
+        assert float(row["fit_error"]) == mode["error"]   # the column is fit_error (issue 13)
         assert "test-band-low: " in row["bands"] and "test-band-high: " in row["bands"]
+    assert "error" not in rows[0]
     assert rows[2]["q_chu"] == "" and rows[2]["q_over_chu"] == ""  # unknown -> empty
     assert float(rows[0]["q_over_chu"]) == pytest.approx(8.4 / 3.1)
     assert rows[1]["worst_status"] == "inside" and rows[2]["worst_status"] == "near"
@@ -211,15 +214,18 @@ def test_html_is_self_contained(written):
     assert not any(v and "url(" in v for _, a in parsed.tags for v in a.values())
 
 
-def test_html_structure_hazards_before_all_modes(written):
+def test_html_structure_the_answer_first(written):
+    """Issue 13: the verdict line, then the hazard table, then the run's warnings and the
+    safety note; all modes, the spectrum, the case and the run facts after them."""
     out, _, _ = written
     parsed = _parse(out / "report.html")
     ids = parsed.table_ids
     assert "hazards" in ids and "modes" in ids and "run-facts" in ids
-    assert ids.index("hazards") < ids.index("modes") < ids.index("run-facts")
-    img_pos = next(i for i, (t, _) in enumerate(parsed.tags) if t == "img")
-    table_pos = [i for i, (t, a) in enumerate(parsed.tags) if t == "table" and a.get("id") == "hazards"]
-    assert img_pos < table_pos[0]
+    assert ids.index("hazards") < ids.index("modes") < ids.index("case-facts") < ids.index("run-facts")
+    order = [a.get("id") for _, a in parsed.tags if a.get("id")]
+    assert order.index("verdict") < order.index("hazards") < order.index("notes") \
+        < order.index("safety-note") < order.index("modes") < order.index("spectrum")
+    assert [t for t, _ in parsed.tags].index("h1") < [a.get("id") for _, a in parsed.tags].index("verdict")
     hazard_rows = parsed.rows("hazards")[1:]
     # ranked worst first, whatever order the summary listed them in
     assert [(r[0], r[1], r[4], r[5]) for r in hazard_rows] == [
@@ -235,7 +241,7 @@ def test_html_case_summary_run_facts_and_safety(written):
     assert "SAR" in text and "local codes" in text
     assert "Made-up handset <test>" in text  # escaped in HTML, read back as text
     for word in ("frame segment", "polyimide", "800 MHz to 3 GHz",
-                 "120 × 80 × 40 nodes, 366,639 cells, step 500 µm",
+                 "120 × 80 × 40 nodes, 366,639 cells, cell 500 µm",
                  "test-band-low", "40,000", "5 min 12 s", "775 MiB", "made-up note"):
         assert word in text, word
     run = {r[0]: r[1] for r in parsed.rows("run-facts")}
@@ -298,6 +304,24 @@ def test_render_without_modes_bands_or_limits_uses_whole_span():
     png = render_spectrum_png(np.linspace(1e6, 9e6, 200), np.sin(np.linspace(0, 9, 200)), dpi=40)
     img = mpimg.imread(io.BytesIO(png), format="png")
     assert img.shape[:2] == (round(4.8 * 40), 9 * 40) and img[..., :3].std() > 0.05
+
+
+def test_spectrum_names_bands_and_gives_f_and_q_at_each_mode(monkeypatch):
+    """Issue 13: the band names on the plot itself, f and Q at every mode marker (written
+    as the tables write them), and what 0 dB is on the axis."""
+    from matplotlib.axes import Axes
+
+    texts = []
+    real_text, real_annotate, real_ylabel = Axes.text, Axes.annotate, Axes.set_ylabel
+    monkeypatch.setattr(Axes, "text", lambda self, x, y, s, *a, **k: texts.append(s) or real_text(self, x, y, s, *a, **k))
+    monkeypatch.setattr(Axes, "annotate", lambda self, s, *a, **k: texts.append(s) or real_annotate(self, s, *a, **k))
+    monkeypatch.setattr(Axes, "set_ylabel", lambda self, s, *a, **k: texts.append(s) or real_ylabel(self, s, *a, **k))
+    summary = _with_uncertainty()
+    freq, mag = spectrum_from_record(invented_record(summary), 2e-11)
+    render_spectrum_png(freq, mag, summary["modes"], BANDS, (0.8e9, 3e9), dpi=40)
+    assert "test-band-low" in texts and "test-band-high" in texts
+    assert "1: 1.235 GHz\nQ 8.4" in texts and "2: 1.80 GHz\nQ 52" in texts, texts
+    assert "probe spectrum (dB re its peak at any frequency)" in texts
 
 
 def test_spectrum_png_same_picture_as_embedded(written):
@@ -444,6 +468,16 @@ def test_writers_do_not_modify_their_input(tmp_path):
 
 # --- text ------------------------------------------------------------------------
 
+def test_summary_table_names_the_carrier_as_the_report_does():
+    """Issue 13: one word for the carrier: 'rings in', and 'no part (air)' when none."""
+    summary = invented_summary()
+    summary["modes"][0]["rings_in"] = "frame segment"
+    summary["modes"][1]["rings_in"] = None
+    lines = format_summary_table(summary).splitlines()
+    assert lines[0].rstrip().endswith("rings in")
+    assert lines[2].rstrip().endswith("frame segment") and lines[3].rstrip().endswith("no part (air)")
+
+
 def test_summary_table_columns_are_aligned():
     table = format_summary_table(invented_summary())
     lines = table.splitlines()
@@ -544,7 +578,8 @@ def test_report_shows_uncertainty_and_keeps_the_fit_error_in_details(tmp_path):
     assert modes[1][6] == "grid study" and modes[2][6] == "stated bound"
     details = parser.rows("uncertainty")
     assert details[0][-1] == "fit error" and details[1][-1] == "2.0 ppm"
-    assert details[1][1] == "1.23456780 GHz" and details[1][2] == "1.23010 GHz"
+    # one mode reads the same everywhere (issue 13): the details use the same digits
+    assert details[1][1] == "1.235 \u00b1 0.012 GHz" and details[1][2] == "1.230 GHz"
     assert details[2][2] == "-"                                   # not extrapolated
     hazards = parser.rows("hazards")
     assert hazards[1][2] == "1.80 \u00b1 0.02 GHz"                 # rank 1 is mode 2

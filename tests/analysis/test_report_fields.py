@@ -17,6 +17,7 @@ from test_field_plots import PNG_SIGNATURE, cavity_fieldset, decode, not_blank
 def summary_for(fs, participation=None):
     share = participation or {"bezel ring": 0.712, "battery": 0.18, "shield can": 0.04}
     modes = [{"index": m.index, "frequency_hz": m.frequency_hz, "q": m.q,
+              "frequency_uncertainty_hz": 0.01 * m.frequency_hz,      # a 1 % stated bound
               "participation": share, "rings_in": "bezel ring"} for m in fs.modes]
     hazards = [{"mode": 2, "band": "band A", "status": "inside", "distance_percent": -1.0, "rank": 1},
                {"mode": 1, "band": "band B", "status": "near", "distance_percent": 2.0, "rank": 2},
@@ -46,10 +47,12 @@ def parse(fragment: str) -> ET.Element:
 
 
 def test_heading_names_frequency_and_parts():
-    mode = {"index": 4, "frequency_hz": 2.4113e9,
+    """The frequency reads as in every table: to the digits its uncertainty supports."""
+    mode = {"index": 4, "frequency_hz": 2.4113e9, "frequency_uncertainty_hz": 0.07e9,
             "participation": {"battery": 0.18, "bezel ring": 0.71, "screw": 0.01}}
     assert report_fields.mode_heading(mode) == "mode 4, 2.41 GHz: 71 % bezel ring, 18 % battery"
-    assert report_fields.mode_heading({"index": 1, "frequency_hz": 9.0e8}) == "mode 1, 900 MHz"
+    assert report_fields.mode_heading({"index": 1, "frequency_hz": 9.0e8,
+                                       "frequency_uncertainty_hz": 2e7}) == "mode 1, 900 MHz"
 
 
 def test_modes_worst_first_with_pictures_and_tables(section, fs, spots):
@@ -57,7 +60,7 @@ def test_modes_worst_first_with_pictures_and_tables(section, fs, spots):
     assert root.tag == "section" and root.get("id") == "mode-fields"
     headings = [h.text for h in root.iter("h3")]
     # TE102 of 30 x 20 mm: c/2 sqrt(1/a^2 + 4/d^2) = 15.8 GHz (Pozar eq. 6.46)
-    assert headings == ["mode 2, 15.8 GHz: 71 % bezel ring, 18 % battery",
+    assert headings == ["mode 2, 15.80 GHz: 71 % bezel ring, 18 % battery",
                         "mode 1, 9.01 GHz: 71 % bezel ring, 18 % battery"]
     paragraphs = [p.text for p in root.iter("p")]
     assert "Q 650; inside band A, near band B (hazard rank 1)" in paragraphs

@@ -19,8 +19,8 @@ from ringprint.fdtd import EPS0
 # (tissue, frequency Hz, eps', sigma S/m) -- widely quoted values, from memory.
 QUOTED = [
     ("muscle", 900e6, 55.0, 0.94), ("muscle", 1.8e9, 53.5, 1.34), ("muscle", 2.45e9, 52.7, 1.74),
-    ("skin_dry", 900e6, 41.4, 0.87), ("skin_dry", 1.8e9, 38.9, 1.18), ("skin_dry", 2.45e9, 38.0, 1.46),
-    ("skin_wet", 900e6, 46.1, 0.85), ("skin_wet", 2.45e9, 42.9, 1.59),
+    ("skin-dry", 900e6, 41.4, 0.87), ("skin-dry", 1.8e9, 38.9, 1.18), ("skin-dry", 2.45e9, 38.0, 1.46),
+    ("skin-wet", 900e6, 46.1, 0.85), ("skin-wet", 2.45e9, 42.9, 1.59),
     ("fat", 900e6, 5.46, 0.051), ("fat", 2.45e9, 5.28, 0.105),
     ("blood", 900e6, 61.4, 1.54), ("blood", 2.45e9, 58.3, 2.54),
 ]
@@ -96,3 +96,12 @@ def test_bad_cole_cole_terms():
         cole_cole_permittivity(1e9, 4.0, (1.0,), (1e-9,), (1.2,), 0.0)
     with pytest.raises(RingprintError):
         cole_cole_permittivity(1e9, 4.0, (1.0, 2.0), (1e-9,), (0.1,), 0.0)
+
+
+def test_old_tissue_names_still_work():
+    """Tissue names take the hyphen style of the material library (issue 13); the old
+    underscore names are aliases of the same entries."""
+    assert "skin-dry" in TISSUES and "skin_dry" not in TISSUES
+    assert tissue_permittivity("skin_dry", 1e9) == tissue_permittivity("skin-dry", 1e9)
+    assert describe("skin_wet") == describe("skin-wet")
+

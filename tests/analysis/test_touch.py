@@ -6,6 +6,8 @@ signs the physics demands (Harrington 1961, sec. 7-2: added permittivity lowers 
 frequency; a lossy tissue lowers Q), and that the FFT map equals the direct sum.
 """
 
+from pathlib import Path
+
 import numpy as np
 import pytest
 
@@ -80,7 +82,7 @@ def test_signs(fs, lossless_map):
     leaves Q alone; a lossy tissue lowers Q everywhere."""
     assert np.all(lossless_map.shift_percent < 0)
     assert np.allclose(lossless_map.q_after, 300.0, rtol=1e-9)
-    lossy = touch_map(fs, 1, tissue="skin_dry", pad_radius_m=3e-3)
+    lossy = touch_map(fs, 1, tissue="skin-dry", pad_radius_m=3e-3)
     assert np.all(lossy.shift_percent < 0) and np.all(lossy.q_after < 300.0)
 
 
@@ -280,3 +282,41 @@ def test_graded_touch_shift_converges_to_the_uniform_lattice_answer():
             shifts.append(tmap.shift_percent[at])
         errors.append(abs(shifts[0] / shifts[1] - 1.0))
     assert errors[1] < 0.015 and errors[1] < 0.5 * errors[0]
+
+
+def test_worst_spots_of_the_tag_lie_on_its_outer_surface():
+    """The bundled tag's 1.5 mm housing wall sits between the 1.8 mm lattice nodes, so its
+    part mask has holes: the touch surface must still be the outside of the housing, not
+    the ground-plane edge inside it (issue 13). The lattice, media and part masks are the
+    real ones of the case (no run); the field is a blob on the ground plane's -x edge,
+    inside the housing, where the old rule put the worst spots. Every worst spot must lie
+    outside the housing's outer surface and within one cell of it (the signed distance to
+    the housing mesh's outer shell, from pyvista's implicit-distance filter)."""
+    import pyvista as pv
+
+    from ringprint.analysis import lattice as lt
+    from ringprint.analysis.case import load_case
+    from ringprint.analysis.model import build_model
+    from ringprint.analysis.touch import worst_spots
+
+    root = Path(__file__).resolve().parents[2]
+    model = build_model(load_case(root / "cases" / "tag" / "case.toml"))
+    lat = lt.plan_lattice(model, 1, 2.0 ** 30)
+    eps_r, sigma, pec = lt.node_media(model, lat)
+    axes = [ax[i] for ax, i in zip(model.grid.axes, lat.indices())]
+    X, Y, Z = np.meshgrid(*axes, indexing="ij")
+    blob = np.exp(-((X + 0.0219) ** 2 + (Y + 0.0109) ** 2 + (Z - 0.0033) ** 2) / (2 * 0.004 ** 2))
+    e = np.stack([blob, 0.5 * blob, 0.2 * blob + 0.01]).astype(np.complex64)
+    fs = FieldSet(*axes, eps_r=eps_r, sigma=sigma, pec=pec, parts=lt.part_masks(model, lat),
+                  modes=[ModeField(1, 2.3e9, 20.0, e, 0.003 * e)])
+    spots = worst_spots(touch_map(fs, 1, tissue="skin-dry"), n=5)
+    housing = pv.read(str(root / "cases" / "tag" / "housing.stl"))
+    shells = housing.connectivity().split_bodies()
+    outer = max((s.extract_surface(algorithm="dataset_surface") for s in shells), key=lambda s: s.volume)
+    points = np.array([s["point_m"] for s in spots]) * 1e3            # the mesh is in mm
+    # signed distance to the outer surface, negative inside (its normals point outward)
+    distance = np.asarray(pv.PolyData(points).compute_implicit_distance(outer)["implicit_distance"])
+    cell_mm = model.grid.cell * 1e3
+    assert len(spots) == 5
+    assert np.all(distance > 0), (points, distance)
+    assert np.all(distance <= cell_mm), (points, distance, cell_mm)

@@ -94,11 +94,11 @@ def test_overlap_later_part_wins():
         fa, fb = _full(ra.fractions[c], c), _full(rb.fractions[c], c)
         assert np.array_equal(fb, _full(b.fractions[c], c))  # winner unchanged
         assert np.all(fa + fb <= 1 + 1e-6)
-    # with priority the frame wins instead
-    ra2, rb2 = resolve_overlaps([a, b], shapes, priority=[1, 0])
+    # with a higher rank the frame wins instead
+    ra2, rb2 = resolve_overlaps([a, b], shapes, rank=[1, 0])
     assert np.array_equal(_full(ra2.fractions["x"], "x"), _full(a.fractions["x"], "x"))
-    with pytest.raises(RingprintError, match="priority"):
-        resolve_overlaps([a, b], shapes, priority=[1])
+    with pytest.raises(RingprintError, match="rank"):
+        resolve_overlaps([a, b], shapes, rank=[1])
 
 
 @pytest.mark.parametrize("kw,match", [({"subrays": 0}, "1 to 9"), ({"subrays": 11}, "1 to 9"),

@@ -43,15 +43,15 @@ def write_case(folder, name, parts, spectrum, grid=None, analysis=None, probe=No
     ``grid``, ``analysis``, ``probe`` are dicts of keys written as they are (strings
     quoted, numbers and lists as TOML). ``bands`` lists ``(name, low, high)`` custom
     bands (frequencies as text, e.g. "2.4 GHz"). A ``parts`` entry may carry a fourth
-    item, the part's priority. The grid is uniform (``graded = false``) unless ``grid``
+    item, the part's overlap_rank. The grid is uniform (``graded = false``) unless ``grid``
     says otherwise: the tolerances of these checks were measured on uniform grids.
     """
     grid = {"graded": False, **(grid or {})}
     lines = [f'title = "{name}"', 'units = "mm"', "", "[spectrum]"]
     lines += [f"{k} = {_value(v)}" for k, v in spectrum.items()]
-    for part, file, material, *priority in parts:
+    for part, file, material, *rank in parts:
         lines += ["", "[[part]]", f'name = "{part}"', f'file = "{file}"', f"material = {_value(material)}"]
-        lines += [f"priority = {p}" for p in priority]
+        lines += [f"overlap_rank = {p}" for p in rank]
     for band, low, high in bands:
         lines += ["", "[[band]]", f'name = "{band}"', f'low = "{low}"', f'high = "{high}"']
     for table, values in (("grid", grid), ("analysis", analysis), ("probe", probe)):
