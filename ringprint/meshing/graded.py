@@ -307,13 +307,15 @@ def check_min_feature(min_feature, cell):
 
 
 def graded_axes(surfaces, names, eps_r, f_max, cells_per_wavelength, padding, boundary_cells,
-                min_feature, lo, hi):
+                min_feature, lo, hi, extra_lines=None):
     """Node vectors of the three axes and the refinements that shaped them.
 
     Lines: flat faces and bounding boxes of every surface; targets: the dielectric
     wavelength across each dielectric part, and each feature of
     :func:`ringprint.meshing.features.find_features` at least ``min_feature`` thick.
-    Returns ``(axes, refinements)``, refinements most restrictive first.
+    ``extra_lines`` (``{axis index: coordinate}``, e.g. mirror planes) are nodes too,
+    weighted above every face. Returns ``(axes, refinements)``, refinements most
+    restrictive first.
     """
     from ringprint.meshing.features import Refinement, find_features
 
@@ -321,6 +323,9 @@ def graded_axes(surfaces, names, eps_r, f_max, cells_per_wavelength, padding, bo
     lines = []
     for a in range(3):
         coords, weights = [], []
+        if extra_lines and a in extra_lines:  # first: kept over box faces closer than min_feature
+            coords.append([extra_lines[a]])
+            weights.append([np.inf])
         for s in surfaces:
             c, w = face_lines(s, a, (cell / 2) ** 2)
             slo, shi = s.bounds
