@@ -164,3 +164,30 @@ def test_symmetry_round_trips_through_the_resolved_case_and_changes_the_digest(t
     assert load_case(again).grid.symmetry == case.grid.symmetry
     assert "symmetry" not in plain.resolved()["grid"]
     assert case.digest() != load_case(_case(tmp_path, BLOCK, '{ x = "pec" }', name="x")).digest()
+
+
+def test_mesh_summary_shows_the_planes_and_the_cells_solved(tmp_path):
+    """``ringprint mesh``: the planes, the solved cells against the whole model's, one run
+    per wall combination, and a run-time estimate on the solved cells times the runs."""
+    from ringprint.analysis.cmd_mesh import run_time_estimate
+    from ringprint.analysis.symmetry import mesh_rows
+
+    plain = build_model(load_case(_case(tmp_path, BLOCK, name="plain")))
+    model = build_model(load_case(_case(tmp_path, BLOCK, '{ x = "both", y = "pec" }')))
+    est, whole = run_time_estimate(model), run_time_estimate(plain)
+    assert est["cells_whole"] == whole["cells"] == 4 * est["cells"] and est["runs"] == 2
+    assert est["dt_s"] == pytest.approx(whole["dt_s"]) and est["seconds"] == pytest.approx(whole["seconds"] / 2)
+    (row,) = mesh_rows(model, est)
+    assert row.startswith("mirror planes: x = 0 mm (both), y = 0 mm (pec); the solver runs ") and \
+        f"= {est['cells']:,} of the whole model's {whole['cells']:,} (0.25 of them), 2 runs" in row, row
+
+
+def test_report_column_names_each_modes_walls():
+    from ringprint.analysis.symmetry import wall_column
+
+    header, rows, numeric = ["mode"], [[1], [2]], [True]
+    wall_column(header, rows, numeric, [{"symmetry_class": "x:pec"}, {"symmetry_class": "x:pmc"}])
+    assert header == ["mode", "mirror walls"] and rows == [[1, "x:pec"], [2, "x:pmc"]] and numeric == [True, False]
+    header, rows = ["mode"], [[1]]
+    wall_column(header, rows, [True], [{"index": 1}])      # no mirrors: no column
+    assert header == ["mode"] and rows == [[1]]
