@@ -1,9 +1,10 @@
 """The field stage of ``ringprint run``: mode fields, which part rings, touch maps, files.
 
 After the modes are known: :func:`ringprint.analysis.mode_fields.compute_fields`
-(second pass; under mirror planes per wall combination, unfolded to the whole model
-by :mod:`ringprint.analysis.symmetry_fields`), the conductor loss of :mod:`ringprint.analysis.conductor_loss` (``q``
-becomes the combined Q and the bands are judged again, before anything else uses Q),
+(second pass; under mirror planes once per wall combination, unfolded to the whole
+model by :mod:`ringprint.analysis.symmetry_fields`), the conductor loss of
+:mod:`ringprint.analysis.conductor_loss` (``q`` becomes the combined Q and the bands
+are judged again, before anything else uses Q),
 :func:`ringprint.analysis.participation.participation` per mode
 (into modes.json: ``participation``, ``participation_detail``, ``rings_in``; the
 hazard entries gain ``part``), the touch maps of :mod:`ringprint.analysis.touch`
@@ -20,9 +21,8 @@ from __future__ import annotations
 import logging
 
 from ringprint.analysis import conductor_loss as cl
-from ringprint.analysis import symmetry_fields
 from ringprint.analysis import lattice as lt
-from ringprint.analysis import touch
+from ringprint.analysis import symmetry_fields, touch
 from ringprint.analysis.fieldset_io import (FIELDS_NAME, IMAGE_SUFFIX, RECTILINEAR_SUFFIX,
                                             write_fieldset, write_mode_files)
 from ringprint.analysis.modes import judge_modes

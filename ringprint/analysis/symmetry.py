@@ -75,7 +75,8 @@ def planes(case, parts) -> tuple:
         hi = max(b[1][a] for b in bounds)
         if not hi > lo:
             raise RingprintError(f"{case.source}: [grid] symmetry {axis}: the assembly has no extent "
-                                 f"along {axis} (a flat sheet), so the plane {axis} = {centre[a]:.6g} m "
+                                 f"along {axis} (a flat sheet), so the plane {axis} = "
+                                 f"{centre[a] / case.unit_m:.6g} {case.units} "
                                  "cuts through nothing; remove that axis from symmetry")
         out.append((a, float(centre[a])))
     return tuple(out)
