@@ -201,7 +201,8 @@ def plan_grid(bounds, f_max, eps_r_max=1.0, cells_per_wavelength=20, padding=Non
         Uniform: cell ``c0 / (f_max sqrt(eps_r_max) n)``, the parts' box centred in the
         domain (with a mirror on that axis, the grid starts at the plane).
         Graded: nominal cell ``c0 / (f_max n)`` (air), nodes on the parts' flat faces,
-        box faces and mirror planes, neighbouring spacings within a factor 1.3.
+        box faces and mirror planes, neighbouring spacings within a factor 1.3 (with a
+        mirror, what either side of the plane asks for, mirrored onto the kept side).
 
     References
     ----------
@@ -242,7 +243,7 @@ def plan_grid(bounds, f_max, eps_r_max=1.0, cells_per_wavelength=20, padding=Non
             raise RingprintError(f"eps_r {eps} must all be finite and >= 1 (1 for conductors)")
         mf = graded_mod.check_min_feature(h / 10 if min_feature is None else min_feature, h)
         axes, records = graded_mod.graded_axes(surfaces, labels, eps, f_max, cells_per_wavelength, pad,
-                                               int(boundary_cells), mf, lo, hi, extra_lines=planes)
+                                               int(boundary_cells), mf, lo, hi, mirrors=planes)
         whole = Grid(axes[0], axes[1], axes[2], h, pad, int(boundary_cells), records, mf, mirrors)
         return whole.fold()
     centre = (lo + hi) / 2
