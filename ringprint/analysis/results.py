@@ -24,6 +24,7 @@ import numpy as np
 
 from ringprint import __version__
 from ringprint.analysis.outputs import atomic_write_text
+from ringprint.analysis.symmetry import wall_column
 from ringprint.analysis.textformat import (format_frequency_pm, format_like, format_percent, format_q,
                                            format_q_pm)
 from ringprint.errors import RingprintError
@@ -412,7 +413,7 @@ def format_summary_table(summary: Mapping) -> str:
     uncertainties, Q/Chu, where the uncertainty comes from, bands hit).
 
     When a conductor Q is known, "Q solver" (the ring-down's) and "Q cond" follow the
-    combined "Q".
+    combined "Q"; under mirror planes "mirror walls" names each mode's walls.
 
     Columns are aligned with spaces; numbers are right-aligned. A run with no modes
     gives one line saying so.
@@ -435,6 +436,7 @@ def format_summary_table(summary: Mapping) -> str:
         right.append(False)
         for r, m in zip(rows, modes):
             r.append(m.get("rings_in") or "(air)")
+    wall_column(header, rows, right, modes)
     widths = [max(len(r[c]) for r in rows + [header]) for c in range(len(header))]
 
     def line(cells):
