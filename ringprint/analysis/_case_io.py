@@ -93,6 +93,8 @@ def resolved_dict(case: Case, relative_to=None) -> dict:
                    "padding": length(case.grid.padding_m),
                    "cpml_cells": case.grid.absorber_cells, "graded": case.grid.graded,
                    "min_feature": length(case.grid.min_feature_m)}
+    if case.grid.symmetry:
+        out["grid"]["symmetry"] = dict(case.grid.symmetry)
     out["analysis"] = {"q_max": case.analysis.q_max,
                        "detuning_margin": case.analysis.detuning_margin,
                        "grid_check": case.analysis.grid_check or False}
@@ -156,5 +158,7 @@ def digest(case: Case) -> str:
                  case.grid.graded, case.grid.min_feature_m],
         "q_max": case.analysis.q_max,
     }
+    if case.grid.symmetry:  # only then: digests of cases without mirrors stay as they were
+        content["grid"].append([list(pair) for pair in case.grid.symmetry])
     text = json.dumps(_canonical(content), sort_keys=True, separators=(",", ":"), allow_nan=False)
     return hashlib.sha256(text.encode("utf-8")).hexdigest()

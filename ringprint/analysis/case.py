@@ -52,6 +52,8 @@ unit such as ``"2.4 GHz"``)::
     graded = true                       # grade the grid to the parts (false: uniform)
     min_feature = 0.25                  # walls, gaps, slots thinner than this stay sub-cell
                                         # (default: a tenth of the air cell, c0/(10 f_max n))
+    symmetry = { x = "pec" }            # mirror planes through the model's centre: "pec",
+                                        # "pmc" or "both" per axis (ringprint.analysis.symmetry)
 
     [analysis]                          # optional
     q_max = 200                         # highest Q to resolve (>= 1)
@@ -91,6 +93,7 @@ from scipy.constants import c as C0
 from ringprint.analysis import _case_io, assembly
 from ringprint.analysis._case_checks import Checker
 from ringprint.analysis._case_material import read_material
+from ringprint.analysis._case_symmetry import parse_symmetry
 from ringprint.analysis._units import LENGTH_UNITS
 from ringprint.analysis.bands import DEFAULT_MARGIN, Band, preset_bands, preset_renamed
 from ringprint.analysis.materials import Material, conversion_frequency
@@ -168,6 +171,7 @@ class Grid:
     absorber_cells: int
     graded: bool = True
     min_feature_m: float = 0.0
+    symmetry: tuple = ()           #: ``(axis, "pec" | "pmc" | "both")`` mirror planes
 
 
 @dataclass(frozen=True)
@@ -434,7 +438,7 @@ def _bands(ck: Checker, data: dict) -> tuple[tuple[str, ...], tuple[Band, ...]]:
 def _grid(ck: Checker, table, spectrum: Spectrum, unit: float) -> Grid:
     table = ck.renamed(table, ("grid",), "absorber_cells", "cpml_cells")
     ck.table(table, ("grid",), ("cells_per_wavelength", "padding", "cpml_cells", "graded",
-                                "min_feature"))
+                                "min_feature", "symmetry"))
     cells = ck.number(table.get("cells_per_wavelength", 20), ("grid", "cells_per_wavelength"),
                       low=10.0, hint="the solver needs at least 10 cells per wavelength in the "
                       "densest material at f_max (10-20 is common practice)")
@@ -447,7 +451,8 @@ def _grid(ck: Checker, table, spectrum: Spectrum, unit: float) -> Grid:
     min_feature = ck.positive(table["min_feature"], ("grid", "min_feature"),
                               hint="a length in the case units, e.g. a tenth of the air cell") * unit \
         if "min_feature" in table else C0 / (spectrum.f_max_hz * cells) / 10
-    return Grid(float(cells), padding, absorber, graded, min_feature)
+    symmetry = parse_symmetry(ck, table["symmetry"]) if "symmetry" in table else ()
+    return Grid(float(cells), padding, absorber, graded, min_feature, symmetry)
 
 
 def _grid_check(ck: Checker, value, grid: Grid) -> int:

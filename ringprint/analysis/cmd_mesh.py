@@ -20,7 +20,8 @@ from pathlib import Path
 import numpy as np
 
 from ringprint import fdtd, meshing
-from ringprint.analysis import placement, ringdown, voxel_image
+from ringprint.analysis import placement, ringdown, symmetry, voxel_image
+from ringprint.analysis._case_symmetry import wall_classes
 from ringprint.analysis.field_plots import probe_corners
 from ringprint.analysis.case import Case, load_case
 from ringprint.analysis.mode_fields import loop_side_m
@@ -70,13 +71,15 @@ def run_time_estimate(model: Model, throughput: float = THROUGHPUT_CELLS_PER_S) 
     ``exp(-pi f t / Q) cos(2 pi f t)`` decays to 1/e at ``t = Q / (pi f)``). Steps
     are that time over the Courant time step; wall time is cells x steps over
     ``throughput``, once more for the mode-field pass when the case asks for fields
-    (``passes``; :mod:`ringprint.analysis.mode_fields`).
+    (``passes``; :mod:`ringprint.analysis.mode_fields`), once per wall combination
+    (``runs``) under mirror planes, whose ``cells`` are those of the solved part
+    (``cells_whole``: the whole model's).
 
     Returns
     -------
     dict
         ``dt_s, step_factor, source_s, ringdown_s, steps, cells, throughput, passes,
-        seconds`` (``step_factor``: what conformal metal asks of the Courant step).
+        cells_whole, runs, seconds`` (``step_factor``: what conformal metal asks of the Courant step).
 
     References
     ----------
@@ -85,19 +88,22 @@ def run_time_estimate(model: Model, throughput: float = THROUGHPUT_CELLS_PER_S) 
     (Q as stored energy over loss per radian, hence the decay rate pi f / Q).
     """
     case = model.case
-    grid = model.fdtd_grid()
+    solved = symmetry.solver_model(model)   # under mirror planes: the part the solver runs
+    grid = solved.fdtd_grid()
     # conformal metal may need a shorter step (ringprint.fdtd.conformal): the same media
     # the run builds decide it
-    factor = model.media(grid).step_factor if model.free_length is not None else 1.0
+    factor = solved.media(grid).step_factor if solved.free_length is not None else 1.0
     dt = fdtd.courant_time_step(grid, COURANT) * factor
     source = float(ringdown.source_pulse(case).t_end)
     steps = ringdown.record_limit(case, dt, source)
-    cells = int(np.prod([n - 1 for n in model.grid.shape]))
+    cells = int(np.prod([n - 1 for n in solved.grid.shape]))
     passes = 2 if case.output.fields else 1
+    runs = len(wall_classes(case.grid.symmetry))   # one per wall combination (1 without mirrors)
     return {"dt_s": dt, "step_factor": factor, "source_s": source,
             "ringdown_s": ringdown.ringdown_time(case),
             "steps": steps, "cells": cells, "throughput": float(throughput), "passes": passes,
-            "seconds": passes * cells * steps / throughput}
+            "cells_whole": int(np.prod([n - 1 for n in model.grid.shape])), "runs": runs,
+            "seconds": runs * passes * cells * steps / throughput}
 
 
 def _length(metres: float, case: Case, digits: int = 4) -> str:
@@ -206,9 +212,12 @@ def _grid_rows(model: Model, estimate: dict) -> list[str]:
                 f"x{meshing.GRADING:g})")
     bc = grid.boundary_cells
     layer = min(a[bc] - a[0] for a in grid.axes)
-    rows = [f"grid: {cells[0]} x {cells[1]} x {cells[2]} cells = {estimate['cells']:,}, {size}, "
+    rows = [f"grid: {cells[0]} x {cells[1]} x {cells[2]} cells = {estimate['cells_whole']:,}, {size}, "
             f"padding {_length(grid.padding, case)} {u}, absorbing layer {bc} cells "
             f"({_length(layer, case)} {u}) on each face"]
+    if grid.mirrors:
+        rows[0] = rows[0].replace("on each face", "on each outer face")
+        rows += symmetry.mesh_rows(model, estimate)
     fine = [r for r in grid.refinements if r.refined and r.cell_m < grid.cell]
     if fine:
         rows.append(f"  fine cells forced by ({len(fine)}, most restrictive first):")
@@ -244,8 +253,9 @@ def summary(model: Model, owners: np.ndarray, estimate: dict, case_path: str) ->
         f"run time: at most about {format_duration(estimate['seconds'])} = "
         + ("2 passes (the second takes the mode fields; --no-fields skips it) x "
            if estimate["passes"] == 2 else "")
+        + (f"{estimate['runs']} wall combinations x " if estimate["runs"] > 1 else "")
         + f"{estimate['steps']:,} steps x "
-        f"{estimate['cells']:,} cells at {estimate['throughput'] / 1e6:g} Mcells/s; steps cover the "
+        f"{estimate['cells']:,} {'solved ' if model.grid.mirrors else ''}cells at {estimate['throughput'] / 1e6:g} Mcells/s; steps cover the "
         f"source pulse ({format_si(estimate['source_s'], 's')}) and the 1/e ring-down of a "
         f"Q = {case.analysis.q_max:g} mode at f_min, q_max/(pi f_min) = "
         f"{format_si(estimate['ringdown_s'], 's')} (the run stops sooner once the field energy "

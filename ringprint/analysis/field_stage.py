@@ -1,8 +1,10 @@
 """The field stage of ``ringprint run``: mode fields, which part rings, touch maps, files.
 
 After the modes are known: :func:`ringprint.analysis.mode_fields.compute_fields`
-(second pass), the conductor loss of :mod:`ringprint.analysis.conductor_loss` (``q``
-becomes the combined Q and the bands are judged again, before anything else uses Q),
+(second pass; under mirror planes once per wall combination, unfolded to the whole
+model by :mod:`ringprint.analysis.symmetry_fields`), the conductor loss of
+:mod:`ringprint.analysis.conductor_loss` (``q`` becomes the combined Q and the bands
+are judged again, before anything else uses Q),
 :func:`ringprint.analysis.participation.participation` per mode
 (into modes.json: ``participation``, ``participation_detail``, ``rings_in``; the
 hazard entries gain ``part``), the touch maps of :mod:`ringprint.analysis.touch`
@@ -20,10 +22,9 @@ import logging
 
 from ringprint.analysis import conductor_loss as cl
 from ringprint.analysis import lattice as lt
-from ringprint.analysis import touch
+from ringprint.analysis import symmetry_fields, touch
 from ringprint.analysis.fieldset_io import (FIELDS_NAME, IMAGE_SUFFIX, RECTILINEAR_SUFFIX,
                                             write_fieldset, write_mode_files)
-from ringprint.analysis.mode_fields import compute_fields
 from ringprint.analysis.modes import judge_modes
 from ringprint.analysis.participation import Regions, participation
 from ringprint.errors import RingprintError
@@ -60,14 +61,17 @@ def check_budget(model, budget_bytes: float) -> None:
 
 
 def run_field_stage(model, probe, ring, modes, hazards, out_dir, notes, progress=None):
-    """Compute and attach everything field-derived; returns the FieldSet or None."""
+    """Compute and attach everything field-derived; returns the FieldSet or None.
+
+    ``ring`` is the run, or under mirror planes the list ``[(walls, Ringdown), ...]``
+    of every wall combination (:func:`ringprint.analysis.symmetry_fields.compute`)."""
     try:
         lat = lt.plan_lattice(model, len(modes), model.case.output.field_memory_bytes)
     except RingprintError as exc:
         notes.append(f"mode fields skipped: {exc}")
         log.warning("mode fields skipped: %s", exc)
         return None
-    fs = compute_fields(model, probe, ring, modes, lat, progress=progress, notes=notes)
+    fs = symmetry_fields.compute(model, probe, ring, modes, lat, progress=progress, notes=notes)
     log.info("mode fields on every %d grid node(s): %s points", fs.decimation,
              "x".join(str(n) for n in fs.shape))
     losses = cl.mode_losses(fs, cl.conductor_surfaces(model))

@@ -46,7 +46,7 @@ from dataclasses import dataclass, field
 import numpy as np
 
 from ringprint import fdtd, meshing
-from ringprint.analysis import _scale
+from ringprint.analysis import _scale, symmetry
 from ringprint.analysis.case import Case, Part
 from ringprint.errors import RingprintError
 from ringprint.fdtd import EPS0
@@ -96,6 +96,9 @@ class Model:
     warnings: list
     free_length: tuple | None = None   #: per E edge, fraction outside conformal metal
     free_area: tuple | None = None     #: per H face, fraction outside conformal metal
+    half: Model | None = None          #: the solved part under mirror planes (analysis.symmetry)
+    walls: dict = field(default_factory=dict)   #: {axis: "pec" | "pmc"} on the planes
+    boundaries: object = "cpml"        #: the solver's face kinds (fdtd.Simulation)
 
     @property
     def axes(self):
@@ -165,7 +168,8 @@ def plan(case: Case, parts: list[PartModel]) -> meshing.Grid:
                              boundary_cells=case.grid.absorber_cells, f_min=case.spectrum.f_min_hz,
                              surfaces=surfaces, names=[p.name for p in parts for _ in p.surfaces],
                              eps_r=[case.medium(p.part)[0] for p in parts for _ in p.surfaces],
-                             min_feature=case.grid.min_feature_m or None, graded=case.grid.graded)
+                             min_feature=case.grid.min_feature_m or None, graded=case.grid.graded,
+                             mirrors=symmetry.planes(case, parts))
 
 
 def build_model(case: Case, allow_memory: bool = False, progress=None,
@@ -195,10 +199,11 @@ def build_model(case: Case, allow_memory: bool = False, progress=None,
         warnings.simplefilter("always", meshing.MeshingWarning)
         parts = load_surfaces(case, cell)
         _scale.check_scale(case, parts, cell)
-        grid = plan(case, parts)
+        solved = plan(case, parts)      # folded at the mirror planes (if any): what the solver runs
+        grid = solved.unfold()          # the whole model is voxelized (and checked for symmetry)
         boxes = [tuple(np.searchsorted(ax, hi) - np.searchsorted(ax, lo) + 2
                        for ax, lo, hi in zip(grid.axes, *s.bounds)) for p in parts for s in p.surfaces]
-        memory = meshing.memory_estimate(*grid.axes, boundary_cells=grid.boundary_cells,
+        memory = meshing.memory_estimate(*solved.axes, boundary_cells=grid.boundary_cells,
                                          subrays=SUBRAYS, part_boxes=boxes)
         with _scale.unit_hint(case, parts):
             meshing.check_memory(memory, allow=allow_memory, graded=not grid.uniform)
@@ -221,7 +226,7 @@ def build_model(case: Case, allow_memory: bool = False, progress=None,
     notes = [_scale.in_case_units(str(w.message), case) for w in caught]
     eps, sig, pec = assemble(case, grid, parts)
     free = conformal_metal(grid, parts, pec)
-    return Model(case, grid, parts, eps, sig, pec, memory, notes, *free)
+    return symmetry.attach(Model(case, grid, parts, eps, sig, pec, memory, notes, *free))
 
 
 def _shapes(grid: meshing.Grid) -> dict:

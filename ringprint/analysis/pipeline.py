@@ -21,14 +21,14 @@ from pathlib import Path
 import numpy as np
 
 from ringprint import __version__
-from ringprint.analysis import placement, ringdown
+from ringprint.analysis import placement, ringdown, symmetry_run
 from ringprint.analysis.bounds import enclosing_sphere
 from ringprint.analysis.case import load_case
 from ringprint.analysis.conductor_loss import mark_without_losses, no_fields_note
 from ringprint.analysis.field_stage import check_budget, field_section, remove_stale, run_field_stage
 from ringprint.analysis.grid_study import CoarseRun, annotate
 from ringprint.analysis.model import build_model
-from ringprint.analysis.modes import find_resonances, mode_table
+from ringprint.analysis.modes import find_resonances
 from ringprint.analysis.outputs import RunLogHandler, atomic_write_text, prepare_output_dir
 from ringprint.analysis.report import format_summary_table, write_results
 from ringprint.analysis.results import q_text
@@ -102,9 +102,12 @@ def coarse_run(case, level: int, allow_memory: bool = False) -> CoarseRun:
     cells = case.grid.cells_per_wavelength / GRID_RATIO ** level
     coarse = dataclasses.replace(case, grid=dataclasses.replace(case.grid, cells_per_wavelength=cells))
     model = build_model(coarse, allow_memory=allow_memory)
-    sim = ringdown.build_simulation(model, placement.place_probe(model), placement.pickup_points(model))
-    ring = ringdown.ring(model, sim)
-    res, _rows = find_resonances(ring, case.spectrum.f_min_hz, case.spectrum.f_max_hz)
+    probe = placement.place_probe(model)
+    ring = ringdown.ring(model, ringdown.build_simulation(model, probe, placement.pickup_points(model)))
+    runs = [(model.walls, ring)] + symmetry_run.other_runs(model, probe)
+    res = [r for _walls, each in runs for r in find_resonances(each, case.spectrum.f_min_hz,
+                                                                case.spectrum.f_max_hz)[0]]
+    res.sort(key=lambda r: r.frequency_hz)
     log.info("grid check: cells per wavelength %.4g, cell %.4g m, %d steps, %d modes, %.1f s",
              cells, model.grid.cell, ring.steps, len(res), ring.wall_time_s)
     return CoarseRun(cells, float(model.grid.cell), np.array([r.frequency_hz for r in res], float),
@@ -187,11 +190,11 @@ def run_case(case_path, out_dir=None, resume: bool = False, progress: bool | Non
         log.info("%d steps, dt %.4g s, stopped on %s, %.1f s", ring.steps, ring.dt, ring.stop_reason,
                  ring.wall_time_s)
         bar.at(0.9, "analysis")
-        res, rows = find_resonances(ring, case.spectrum.f_min_hz, case.spectrum.f_max_hz)
-        _centre, radius = enclosing_sphere(model.vertices())
+        runs = [(model.walls, ring)] + symmetry_run.other_runs(model, probe)
+        _centre, radius = enclosing_sphere(model.vertices())    # the whole assembly's
         bands = list(case.bands)
-        modes, hazards = mode_table(res, rows, ring.probe_signal, radius, bands,
-                                    case.analysis.detuning_margin)
+        modes, hazards = symmetry_run.merged_modes(runs, case.spectrum.f_min_hz, case.spectrum.f_max_hz,
+                                                   radius, bands, case.analysis.detuning_margin)
         notes = list(case.notes) + list(model.warnings)
         coarse = []
         for level in range(1, grids if modes else 1):       # nothing to compare without modes
@@ -205,7 +208,7 @@ def run_case(case_path, out_dir=None, resume: bool = False, progress: bool | Non
         remove_stale(out)
         mark_without_losses(modes)
         if fields:
-            fs = run_field_stage(model, probe, ring, modes, hazards, out, notes,
+            fs = run_field_stage(model, probe, runs, modes, hazards, out, notes,
                                  progress=lambda s, n: bar.at(0.5 + 0.4 * s / n, "fields"))
         notes += no_fields_note(model, fs)
         notes += [f"mode {m['index']}: Q {m['q_solver']:.3g} (ring-down) is below the Chu bound "
@@ -218,6 +221,7 @@ def run_case(case_path, out_dir=None, resume: bool = False, progress: bool | Non
             "modes": modes,
             "hazards": hazards,
             "chu_sphere": {"radius_m": float(radius)},
+            "symmetry": symmetry_run.summary_block(model, runs),
             "uncertainty": uncertainty,
             "run": {"steps": int(ring.steps), "dt_s": float(ring.dt),
                     "wall_time_s": float(time.perf_counter() - t_start),

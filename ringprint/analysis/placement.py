@@ -22,6 +22,10 @@ families of modes from a probe on its symmetry plane. So (rules the report cites
   irregular directions, one or two (local) cells out in air, cycling through all six field
   components; and one point inside each dielectric part (an edge at least 99 %
   inside it), recording the E component along that edge and its two neighbours.
+- **Mirror planes** (``[grid] symmetry``): the probe and every pickup are placed on
+  the whole model by the rules above, then moved to their mirror image across any
+  plane they lie below, into the solved part; the loop must lie at least one cell
+  off each plane (:func:`ringprint.analysis.symmetry.into_solved_part`).
 """
 
 from __future__ import annotations
@@ -31,6 +35,7 @@ from dataclasses import dataclass
 import numpy as np
 
 from ringprint.analysis.fieldset import is_uniform
+from ringprint.analysis.symmetry import into_solved_part
 from ringprint.errors import RingprintError
 
 #: Direction used to find an off-symmetry spot next to a part (not on any axis plane).
@@ -149,7 +154,7 @@ def place_probe(model) -> ProbePlacement:
                 f"{case.source}: [probe] at = [{at}] ({case.units}): the loop touches a conductor or lies "
                 "in the absorbing layer; move it into air or a dielectric, or remove [probe] to let "
                 "ringprint place it")
-        return ProbePlacement(tuple(map(float, p.at_m)), p.normal, size, "case")
+        return ProbePlacement(into_solved_part(model, p.at_m, size, p.normal), p.normal, size, "case")
     part = _anchor(model)
     verts = model.vertices(part)
     start = verts[np.argmax(verts @ PROBE_DIRECTION)]
@@ -161,7 +166,7 @@ def place_probe(model) -> ProbePlacement:
         raise RingprintError(
             f"{case.source}: no free spot for the loop probe next to part {part.name!r}; give "
             "[probe] at/normal/size in the case, or raise [grid] padding")
-    return ProbePlacement(tuple(map(float, point)), normal, 1, "automatic")
+    return ProbePlacement(into_solved_part(model, point, 1, normal), normal, 1, "automatic")
 
 
 def pickup_points(model) -> list[tuple[str, tuple]]:
@@ -179,7 +184,7 @@ def pickup_points(model) -> list[tuple[str, tuple]]:
                 model, _node_index(model, q) - 1, _node_index(model, q) + 1)
             point = _walk_out(model, start, d, ok, steps, h)
             if point is not None:
-                out.append((FIELD_COMPONENTS[k % 6], tuple(map(float, point))))
+                out.append((FIELD_COMPONENTS[k % 6], into_solved_part(model, point)))
                 k += 1
         if not part.is_conductor:
             out.extend(_inside_points(model, part))
@@ -198,5 +203,5 @@ def _inside_points(model, part):
         i, j, k = idx[len(idx) // 3] + np.asarray(box.offset)
         x, y, z = model.axes
         point = (0.5 * (x[i] + x[i + 1]), y[j], z[k])
-        return [(c, tuple(map(float, point))) for c in ("Ex", "Ey", "Ez")]
+        return [(c, into_solved_part(model, point)) for c in ("Ex", "Ey", "Ez")]
     return []

@@ -113,6 +113,7 @@ from ringprint.analysis.summary_table import format_summary_table
 from ringprint.analysis.results import (basis_text, frequency_text,
                                         hazards_from_modes, q_over_chu_text, q_text,
                                         validate_bands, validate_summary, write_csv, write_json)
+from ringprint.analysis.symmetry import wall_column
 from ringprint.analysis.textformat import (format_error, format_frequency, format_like,
                                            format_number, format_percent, format_q, format_sci)
 
@@ -213,6 +214,7 @@ def _modes_section(summary: Mapping) -> str:
         numeric[3:3] = [True, True]
         for r, m in zip(rows, modes):
             r[3:3] = [format_q(m.get("q_solver", m["q"])), format_q(m.get("q_conductor"))]
+    wall_column(header, rows, numeric, modes)
     out.append(_table("modes", header, rows, numeric))
     if has_qc:
         out.append('<p class="muted" id="q-note">Q combines the losses, 1/Q = 1/Q solver + '

@@ -29,6 +29,7 @@ from pathlib import Path
 import numpy as np
 
 from ringprint import fdtd
+from ringprint.analysis import symmetry
 from ringprint.analysis.outputs import atomic_write_text
 from ringprint.errors import RingprintError
 
@@ -77,8 +78,9 @@ def _pickup_name(k: int, comp: str) -> str:
 def build_simulation(model, probe, pickups, dtype=np.float32):
     """The solver set up for the case: media, CPML, the loop probe and the pickups."""
     case = model.case
+    model = symmetry.solver_model(model)   # the solved part and its walls under mirror planes
     grid = model.fdtd_grid()
-    sim = fdtd.Simulation(grid, model.media(grid), boundaries="cpml",
+    sim = fdtd.Simulation(grid, model.media(grid), boundaries=model.boundaries,
                           cpml_cells=model.grid.boundary_cells, dtype=dtype,
                           f_max=case.spectrum.f_max_hz)
     source = fdtd.LoopSource(center=probe.center, normal=probe.normal, waveform=source_pulse(case),

@@ -11,6 +11,7 @@ from collections.abc import Mapping
 
 from ringprint.analysis.results import (STATUSES, basis_text, carrier_text, frequency_text,
                                         q_over_chu_text, q_text, validate_summary)
+from ringprint.analysis.symmetry import wall_column
 from ringprint.analysis.textformat import format_percent, format_q
 
 __all__ = ["format_summary_table"]
@@ -54,6 +55,7 @@ def format_summary_table(summary: Mapping) -> str:
         right.append(False)
         for r, m in zip(rows, modes):
             r.append(carrier_text(m))
+    wall_column(header, rows, right, modes)
     widths = [max(len(r[c]) for r in rows + [header]) for c in range(len(header))]
 
     def line(cells):

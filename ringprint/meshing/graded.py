@@ -307,25 +307,36 @@ def check_min_feature(min_feature, cell):
 
 
 def graded_axes(surfaces, names, eps_r, f_max, cells_per_wavelength, padding, boundary_cells,
-                min_feature, lo, hi):
+                min_feature, lo, hi, mirrors=None):
     """Node vectors of the three axes and the refinements that shaped them.
 
     Lines: flat faces and bounding boxes of every surface; targets: the dielectric
     wavelength across each dielectric part, and each feature of
     :func:`ringprint.meshing.features.find_features` at least ``min_feature`` thick.
+    ``mirrors`` (``{axis index: coordinate}``): mirror planes, each a line weighted
+    above every face, and the lines and targets along its axis are mirrored about it
+    too, so the half above the plane meets what either half asks (parts whose facets
+    are not exact mirror images find slightly different features on the two sides).
     Returns ``(axes, refinements)``, refinements most restrictive first.
     """
+    mirrors = mirrors or {}
     from ringprint.meshing.features import Refinement, find_features
 
     cell = C0 / (f_max * cells_per_wavelength)
     lines = []
     for a in range(3):
         coords, weights = [], []
+        if a in mirrors:  # first: kept over box faces closer than min_feature
+            coords.append([mirrors[a]])
+            weights.append([np.inf])
         for s in surfaces:
             c, w = face_lines(s, a, (cell / 2) ** 2)
             slo, shi = s.bounds
             coords += [c, [slo[a], shi[a]]]
             weights += [w, [np.inf, np.inf]]
+        if a in mirrors:
+            coords += [2 * mirrors[a] - np.asarray(c, np.float64) for c in coords[1:]]
+            weights += weights[1:]
         lines.append(merge_lines(np.concatenate(coords), np.concatenate(weights), min_feature))
     records = []
     for s, name, eps in zip(surfaces, names, eps_r):
@@ -341,6 +352,8 @@ def graded_axes(surfaces, names, eps_r, f_max, cells_per_wavelength, padding, bo
     axes = []
     for a in range(3):
         targets = [(r.span[0], r.span[1], r.cell_m) for r in records if r.axis == "xyz"[a] and r.refined]
+        if a in mirrors:
+            targets += [(2 * mirrors[a] - h, 2 * mirrors[a] - l, size) for l, h, size in targets]
         axes.append(plan_axis(lines[a], targets, cell, padding, boundary_cells))
     records.sort(key=lambda r: (not r.refined, r.cell_m))
     return axes, tuple(records)

@@ -3,7 +3,7 @@
 import math
 import os
 import warnings
-from dataclasses import dataclass
+from dataclasses import dataclass, replace
 
 import numpy as np
 
@@ -27,6 +27,12 @@ class Grid:
     (graded grids) lists what forced fine cells
     (:class:`ringprint.meshing.features.Refinement`, most restrictive first) and
     ``min_feature`` the size below which features were left sub-cell.
+
+    ``mirrors`` lists mirror planes ``(axis index, coordinate)``, each a node plane of
+    the grid. A *folded* grid (``folded=True``, as :func:`plan_grid` returns it with
+    mirrors) starts at each plane: no padding or absorbing cells on that side, the
+    grid on the far side is the mirror image; :meth:`unfold` gives the whole grid
+    and :meth:`fold` cuts it back.
     """
 
     x: np.ndarray
@@ -37,6 +43,8 @@ class Grid:
     boundary_cells: int
     refinements: tuple = ()
     min_feature: float | None = None
+    mirrors: tuple = ()
+    folded: bool = False
 
     @property
     def spacing(self):
@@ -80,6 +88,33 @@ class Grid:
     def axes(self):
         return self.x, self.y, self.z
 
+    def unfold(self):
+        """The whole grid: each folded axis joined to its mirror image about its plane."""
+        if not self.folded:
+            return self
+        axes = list(self.axes)
+        for a, c in self.mirrors:
+            axes[a] = np.concatenate([2.0 * c - axes[a][:0:-1], axes[a]])
+        return replace(self, x=axes[0], y=axes[1], z=axes[2], folded=False)
+
+    def fold(self):
+        """The grid from each mirror plane up (the solver's domain)."""
+        if self.folded:
+            return self
+        axes = list(self.axes)
+        for a, c in self.mirrors:
+            axes[a] = axes[a][plane_index(axes[a], c):]
+        return replace(self, x=axes[0], y=axes[1], z=axes[2], folded=True)
+
+
+def plane_index(nodes, coordinate) -> int:
+    """Index of the node at ``coordinate`` (a mirror plane must be a node plane)."""
+    k = int(np.argmin(np.abs(np.asarray(nodes) - coordinate)))
+    spacing = np.diff(nodes)
+    if abs(nodes[k] - coordinate) > 1e-9 * float(spacing.max()):
+        raise RingprintError(f"mirror plane at {coordinate:.6g} m is not a grid node plane")  # pragma: no cover
+    return k
+
 
 def cell_size(f_max, eps_r_max=1.0, cells_per_wavelength=20):
     """Cell size resolving the shortest wavelength (in the densest material at f_max).
@@ -118,7 +153,7 @@ def default_padding(lo, hi, f_min=None):
 
 def plan_grid(bounds, f_max, eps_r_max=1.0, cells_per_wavelength=20, padding=None,
               boundary_cells=10, f_min=None, min_padding_cells=5, *, surfaces=None, eps_r=None,
-              names=None, min_feature=None, graded=True):
+              names=None, min_feature=None, graded=True, mirrors=()):
     """Plan the Yee grid around the parts: uniform, or graded to the parts' features.
 
     Parameters
@@ -155,13 +190,19 @@ def plan_grid(bounds, f_max, eps_r_max=1.0, cells_per_wavelength=20, padding=Non
     graded : bool
         Grade the grid to the parts (:mod:`ringprint.meshing.graded`); False gives
         the uniform grid.
+    mirrors : sequence of (int, float)
+        Mirror planes ``(axis index, coordinate in m)``, each inside the parts' box:
+        the plane becomes a node plane and only the grid above it is kept (a folded
+        :class:`Grid`; no padding or absorbing cells below the plane).
 
     Returns
     -------
     Grid
         Uniform: cell ``c0 / (f_max sqrt(eps_r_max) n)``, the parts' box centred in the
-        domain. Graded: nominal cell ``c0 / (f_max n)`` (air), nodes on the parts'
-        flat faces and box faces, neighbouring spacings within a factor 1.3.
+        domain (with a mirror on that axis, the grid starts at the plane).
+        Graded: nominal cell ``c0 / (f_max n)`` (air), nodes on the parts' flat faces,
+        box faces and mirror planes, neighbouring spacings within a factor 1.3 (with a
+        mirror, what either side of the plane asks for, mirrored onto the kept side).
 
     References
     ----------
@@ -180,6 +221,12 @@ def plan_grid(bounds, f_max, eps_r_max=1.0, cells_per_wavelength=20, padding=Non
         raise RingprintError(f"part bounds {lo}..{hi} are not finite/ordered; check the part transforms")
     if int(boundary_cells) != boundary_cells or boundary_cells < 0:
         raise RingprintError(f"boundary_cells = {boundary_cells!r} must be a non-negative integer")
+    mirrors = tuple((int(a), float(c)) for a, c in mirrors)
+    planes = dict(mirrors)
+    for a, c in mirrors:
+        if a not in (0, 1, 2) or len(planes) != len(mirrors) or not (lo[a] < c < hi[a]):
+            raise RingprintError(f"mirror plane {'xyz'[a] if a in (0, 1, 2) else a} = {c!r} m: give each "
+                                 f"axis once, with the plane inside the parts' box {lo}..{hi}")
     graded = bool(graded) and bool(surfaces)
     h = cell_size(f_max, 1.0 if graded else eps_r_max, cells_per_wavelength)
     pad = default_padding(lo, hi, f_min) if padding is None else float(padding)
@@ -196,15 +243,21 @@ def plan_grid(bounds, f_max, eps_r_max=1.0, cells_per_wavelength=20, padding=Non
             raise RingprintError(f"eps_r {eps} must all be finite and >= 1 (1 for conductors)")
         mf = graded_mod.check_min_feature(h / 10 if min_feature is None else min_feature, h)
         axes, records = graded_mod.graded_axes(surfaces, labels, eps, f_max, cells_per_wavelength, pad,
-                                               int(boundary_cells), mf, lo, hi)
-        return Grid(axes[0], axes[1], axes[2], h, pad, int(boundary_cells), records, mf)
+                                               int(boundary_cells), mf, lo, hi, mirrors=planes)
+        whole = Grid(axes[0], axes[1], axes[2], h, pad, int(boundary_cells), records, mf, mirrors)
+        return whole.fold()
     centre = (lo + hi) / 2
     axes = []
     for d in range(3):
+        if d in planes:  # from the plane up; the far side of a centred plane is its mirror
+            top = int(math.ceil((hi[d] - planes[d] + pad) / h - 1e-9)) + int(boundary_cells)
+            axes.append(planes[d] + h * np.arange(0, top + 1, dtype=np.float64))
+            continue
         half = (hi[d] - lo[d]) / 2 + pad
         n_half = int(math.ceil(half / h - 1e-9)) + int(boundary_cells)
         axes.append(centre[d] + h * np.arange(-n_half, n_half + 1, dtype=np.float64))
-    return Grid(axes[0], axes[1], axes[2], h, pad, int(boundary_cells))
+    return Grid(axes[0], axes[1], axes[2], h, pad, int(boundary_cells), mirrors=mirrors,
+                folded=bool(mirrors))
 
 
 def thickness(surface, spacing, max_rays=128):
