@@ -48,3 +48,8 @@ def test_bench_text_output(capsys, small_triad):
 def test_bench_refuses_tiny_grid(capsys):
     assert main(["bench", "--size", "8"]) == 1
     assert "--size 8" in capsys.readouterr().err
+
+
+def test_bench_refuses_a_layer_share_without_room(capsys):
+    assert main(["bench", "--padded-share", "0.9"]) == 1
+    assert "--padded-share 0.9" in capsys.readouterr().err
