@@ -7,8 +7,9 @@ thread. Each ``[i, j, :]`` row goes to a small row function whose loop over k
 has no branch, so LLVM vectorizes it (SIMD over k). The row and plane functions
 are inlined at the numba level (``inline="always"``): a separate call from the
 parallel loop is not inlined by LLVM and costs as much as a short row. A row whose
-media index is the same along k (``u >= 0``) uses scalar coefficients; a mixed
-row reads ``ca[m], cb[m]`` per cell. After a row is updated, its CPML correction
+media index is the same along k (``u >= 0``) uses scalar coefficients, and so does
+each run of one medium on a row of a few long runs; a row of many short runs reads
+``ca[m], cb[m]`` per cell (:mod:`ringprint.fdtd._rows`). After a row is updated, its CPML correction
 runs as its own short row loop over the layer part of the row (z layers), or over
 the whole row when the row lies in an x or y layer. The psi arrays exist only
 inside the layers. E rows on PMC walls are updated by :func:`update_e_box` and
@@ -26,109 +27,8 @@ from __future__ import annotations
 import numpy as np
 from numba import njit, prange
 
-
-_FM = {"contract", "reassoc"}  # no nnan/ninf: non-finite values must survive to the guard
-
-
-# ------------------------------------------------------------------ row updates
-# Each helper updates the row [i, j, k0:k1] of a 3-d array (3-d indexing, no views:
-# making a view per row costs more than a short row's arithmetic). With the
-# neighbour offsets (di, dj) along i or j:
-# H rows: h -= c ((p[i+di, j+dj] - p[i, j]) sp - (q[k+1] - q[k]) sq[k])        (_h_row_k)
-#         h -= c ((p[i+1, j] - p[i, j]) sp - (r[i, j+1] - r[i, j]) sr)          (_h_row_t)
-# E rows: f = ca f + cb ((p[i, j] - p[i-di, j-dj]) sp - (q[k] - q[k-1]) sq[k])  (_e_row_k)
-#         f = ca f + cb ((p[i, j] - p[i-1, j]) sp - (r[i, j] - r[i, j-1]) sr)   (_e_row_t)
-# with (ca, cb) = (ca[u], sg cb[u]) on a uniform row (u >= 0), else per cell.
-# The energy versions return sum old new w[k] (H) / sum eps old^2 w[k] (E).
-
-@njit(cache=True, fastmath=_FM, inline="always")
-def _h_row_k(h, p, q, i, j, di, dj, sp, sq, c, w, en):
-    s = 0.0
-    i1, j1 = i + di, j + dj
-    if en:
-        for k in range(h.shape[2]):
-            old = h[i, j, k]
-            new = old - c * ((p[i1, j1, k] - p[i, j, k]) * sp
-                             - (q[i, j, k + 1] - q[i, j, k]) * sq[k])
-            h[i, j, k] = new
-            s += np.float64(old * new * w[k])
-    else:
-        for k in range(h.shape[2]):
-            h[i, j, k] = h[i, j, k] - c * ((p[i1, j1, k] - p[i, j, k]) * sp
-                                           - (q[i, j, k + 1] - q[i, j, k]) * sq[k])
-    return s
-
-
-@njit(cache=True, fastmath=_FM, inline="always")
-def _h_row_t(h, p, r, i, j, sp, sr, c, w, en):
-    s = 0.0
-    if en:
-        for k in range(h.shape[2]):
-            old = h[i, j, k]
-            new = old - c * ((p[i + 1, j, k] - p[i, j, k]) * sp
-                             - (r[i, j + 1, k] - r[i, j, k]) * sr)
-            h[i, j, k] = new
-            s += np.float64(old * new * w[k])
-    else:
-        for k in range(h.shape[2]):
-            h[i, j, k] = h[i, j, k] - c * ((p[i + 1, j, k] - p[i, j, k]) * sp
-                                           - (r[i, j + 1, k] - r[i, j, k]) * sr)
-    return s
-
-
-@njit(cache=True, fastmath=_FM, inline="always")
-def _e_row_k(f, p, q, i, j, di, dj, sp, sq, sg, k0, k1, u, m, ca, cb, ept, w, en):
-    s = 0.0
-    i0, j0 = i - di, j - dj
-    if u >= 0:  # uniform row: coefficients hoisted, no table gathers
-        a, b = ca[u], sg * cb[u]
-        if en:
-            for k in range(k0, k1):
-                old = f[i, j, k]
-                f[i, j, k] = a * old + b * ((p[i, j, k] - p[i0, j0, k]) * sp
-                                            - (q[i, j, k] - q[i, j, k - 1]) * sq[k])
-                s += np.float64(old * old * w[k])
-            s *= ept[u]
-        else:
-            for k in range(k0, k1):
-                f[i, j, k] = a * f[i, j, k] + b * ((p[i, j, k] - p[i0, j0, k]) * sp
-                                                   - (q[i, j, k] - q[i, j, k - 1]) * sq[k])
-    else:
-        for k in range(k0, k1):
-            mk = m[i, j, k]
-            old = f[i, j, k]
-            f[i, j, k] = ca[mk] * old + sg * cb[mk] * ((p[i, j, k] - p[i0, j0, k]) * sp
-                                                       - (q[i, j, k] - q[i, j, k - 1]) * sq[k])
-            if en:
-                s += ept[mk] * np.float64(old * old * w[k])
-    return s
-
-
-@njit(cache=True, fastmath=_FM, inline="always")
-def _e_row_t(f, p, r, i, j, sp, sr, k0, k1, u, m, ca, cb, ept, w, en):
-    s = 0.0
-    if u >= 0:
-        a, b = ca[u], cb[u]
-        if en:
-            for k in range(k0, k1):
-                old = f[i, j, k]
-                f[i, j, k] = a * old + b * ((p[i, j, k] - p[i - 1, j, k]) * sp
-                                            - (r[i, j, k] - r[i, j - 1, k]) * sr)
-                s += np.float64(old * old * w[k])
-            s *= ept[u]
-        else:
-            for k in range(k0, k1):
-                f[i, j, k] = a * f[i, j, k] + b * ((p[i, j, k] - p[i - 1, j, k]) * sp
-                                                   - (r[i, j, k] - r[i, j - 1, k]) * sr)
-    else:
-        for k in range(k0, k1):
-            mk = m[i, j, k]
-            old = f[i, j, k]
-            f[i, j, k] = ca[mk] * old + cb[mk] * ((p[i, j, k] - p[i - 1, j, k]) * sp
-                                                  - (r[i, j, k] - r[i, j - 1, k]) * sr)
-            if en:
-                s += ept[mk] * np.float64(old * old * w[k])
-    return s
+from ringprint.fdtd._rows import FM as _FM
+from ringprint.fdtd._rows import e_row_k, e_row_t, end_media, h_row_k, h_row_t
 
 
 # --------------------------------------------------------------- CPML row pieces
@@ -142,17 +42,23 @@ def _e_row_t(f, p, r, i, j, sp, sr, k0, k1, u, m, ca, cb, ept, w, en):
 
 @njit(cache=True, fastmath=_FM, inline="always")
 def _psi_k(f, g, psi, i, j, b, a, p0, o, sign, k0, k1, u, m, coef):
+    # unsigned indices: the bounds are run-time values, and numba's wrap-around of a
+    # possibly negative signed index keeps LLVM from vectorizing the loop
     if u >= 0:
         c = sign * coef[u]
         for k in range(k0, k1):
-            q = b[k] * psi[i, j, k - p0] + a[k] * (g[i, j, k + o] - g[i, j, k + o - 1])
-            psi[i, j, k - p0] = q
-            f[i, j, k] += c * q
+            ku, pu = np.uint64(k), np.uint64(k - p0)
+            q = b[ku] * psi[i, j, pu] + a[ku] * (g[i, j, np.uint64(k + o)]
+                                                 - g[i, j, np.uint64(k + o - 1)])
+            psi[i, j, pu] = q
+            f[i, j, ku] += c * q
     else:
         for k in range(k0, k1):
-            q = b[k] * psi[i, j, k - p0] + a[k] * (g[i, j, k + o] - g[i, j, k + o - 1])
-            psi[i, j, k - p0] = q
-            f[i, j, k] += sign * coef[m[i, j, k]] * q
+            ku, pu = np.uint64(k), np.uint64(k - p0)
+            q = b[ku] * psi[i, j, pu] + a[ku] * (g[i, j, np.uint64(k + o)]
+                                                 - g[i, j, np.uint64(k + o - 1)])
+            psi[i, j, pu] = q
+            f[i, j, ku] += sign * coef[m[i, j, ku]] * q
 
 
 @njit(cache=True, fastmath=_FM, inline="always")
@@ -184,12 +90,13 @@ def _layer(r, p):
 
 
 @njit(cache=True, fastmath=_FM, inline="always")
-def _z_layers(f, g, psi_lo, psi_hi, b, a, rz, o, sign, i, j, u, m, coef):
-    """Both z-layer pieces of row ``f[i, j]`` (nothing when z has no layer)."""
+def _z_layers(f, g, psi_lo, psi_hi, b, a, rz, o, sign, i, j, ulo, uhi, m, coef):
+    """Both z-layer pieces of row ``f[i, j]`` (nothing when z has no layer); ``ulo,
+    uhi`` the media index of each piece when it holds one medium, else -1."""
     if rz[1] > rz[0]:
-        _psi_k(f, g, psi_lo, i, j, b, a, rz[0], o, sign, rz[0], rz[1], u, m, coef)
+        _psi_k(f, g, psi_lo, i, j, b, a, rz[0], o, sign, rz[0], rz[1], ulo, m, coef)
     if rz[3] > rz[2]:
-        _psi_k(f, g, psi_hi, i, j, b, a, rz[2], o, sign, rz[2], rz[3], u, m, coef)
+        _psi_k(f, g, psi_hi, i, j, b, a, rz[2], o, sign, rz[2], rz[3], uhi, m, coef)
 
 
 # ------------------------------------------------------------ conformal faces
@@ -285,22 +192,22 @@ def _h_plane(i, f, ch, ih, wn, wc, mdum, chtab, b, a, r, psi, pos, neg, en, cf):
     acc = 0.0
     lx = _layer(r[0], i)
     for j in range(ny - 1):  # Hx (nx, ny-1, nz-1): -dEz/dy, +dEy/dz
-        acc += _h_row_k(hx, ez, ey, i, j, 0, 1, iyh[j], izh, ch, wc[2], en) * wn[0][i] * wc[1][j]
+        acc += h_row_k(hx, ez, ey, i, j, 0, 1, iyh[j], izh, ch, wc[2], en) * wn[0][i] * wc[1][j]
         ly = _layer(r[1], j)
         if ly >= 0:
             _psi_t(hx, ez, psi[ly], i, j, 0, 1, 1, i, j - r[1][2 * ly], b[1][j], a[1][j], neg,
                    0, nz - 1, 0, mdum, chtab)
-        _z_layers(hx, ey, psi[2], psi[3], b[2], a[2], r[2], 1, pos, i, j, 0, mdum, chtab)
+        _z_layers(hx, ey, psi[2], psi[3], b[2], a[2], r[2], 1, pos, i, j, 0, 0, mdum, chtab)
     if i < nx - 1:
         for j in range(ny):  # Hy (nx-1, ny, nz-1): -dEx/dz, +dEz/dx
-            acc += (_h_row_k(hy, ez, ex, i, j, 1, 0, ixh[i], izh, -ch, wc[2], en)
+            acc += (h_row_k(hy, ez, ex, i, j, 1, 0, ixh[i], izh, -ch, wc[2], en)
                     * wc[0][i] * wn[1][j])
             if lx >= 0:
                 _psi_t(hy, ez, psi[4 + lx], i, j, 1, 0, 1, i - r[0][2 * lx], j, b[0][i],
                        a[0][i], pos, 0, nz - 1, 0, mdum, chtab)
-            _z_layers(hy, ex, psi[6], psi[7], b[2], a[2], r[2], 1, neg, i, j, 0, mdum, chtab)
+            _z_layers(hy, ex, psi[6], psi[7], b[2], a[2], r[2], 1, neg, i, j, 0, 0, mdum, chtab)
         for j in range(ny - 1):  # Hz (nx-1, ny-1, nz): -dEy/dx, +dEx/dy
-            acc += _h_row_t(hz, ey, ex, i, j, ixh[i], iyh[j], ch, wn[2], en) * wc[0][i] * wc[1][j]
+            acc += h_row_t(hz, ey, ex, i, j, ixh[i], iyh[j], ch, wn[2], en) * wc[0][i] * wc[1][j]
             if lx >= 0:
                 _psi_t(hz, ey, psi[8 + lx], i, j, 1, 0, 1, i - r[0][2 * lx], j, b[0][i],
                        a[0][i], neg, 0, nz, 0, mdum, chtab)
@@ -313,7 +220,7 @@ def _h_plane(i, f, ch, ih, wn, wc, mdum, chtab, b, a, r, psi, pos, neg, en, cf):
 
 
 @njit(cache=True, fastmath=_FM, inline="always")
-def _e_plane(i, f, m, u, ca, cb, epst, ie, wn, wc, b, a, r, psi, pos, neg, en):
+def _e_plane(i, f, m, u, rn, ca, cb, epst, ie, wn, wc, b, a, r, psi, pos, neg, en):
     """E^(n+1) on the interior edges of plane i, CPML rows included. Returns
     ``sum eps E_old^2 w`` of the plane."""
     ex, ey, ez, hx, hy, hz = f
@@ -326,26 +233,28 @@ def _e_plane(i, f, m, u, ca, cb, epst, ie, wn, wc, b, a, r, psi, pos, neg, en):
     if i < nx - 1:
         for j in range(1, ny - 1):  # Ex (nx-1, ny, nz): +dHz/dy, -dHy/dz
             uu = ux[i, j]
-            acc += (_e_row_k(ex, hz, hy, i, j, 0, 1, iye[j], ize, pos, 1, nz - 1, uu, mx, ca,
-                             cb, epst, wn[2], en) * wc[0][i] * wn[1][j])
+            ulo, uhi = end_media(uu, rn, 0, i, j, ny, r[2][1], r[2][2])
+            acc += (e_row_k(ex, hz, hy, i, j, 0, 1, iye[j], ize, pos, 1, nz - 1, uu, mx, ca,
+                            cb, epst, wn[2], en, rn, 0) * wc[0][i] * wn[1][j])
             ly = _layer(r[1], j)
             if ly >= 0:
                 _psi_t(ex, hz, psi[ly], i, j, 0, 1, 0, i, j - r[1][2 * ly], b[1][j], a[1][j],
                        pos, 1, nz - 1, uu, mx, cb)
-            _z_layers(ex, hy, psi[2], psi[3], b[2], a[2], r[2], 0, neg, i, j, uu, mx, cb)
+            _z_layers(ex, hy, psi[2], psi[3], b[2], a[2], r[2], 0, neg, i, j, ulo, uhi, mx, cb)
     if 0 < i < nx - 1:
         for j in range(ny - 1):  # Ey (nx, ny-1, nz): +dHx/dz, -dHz/dx
             uu = uy[i, j]
-            acc += (_e_row_k(ey, hz, hx, i, j, 1, 0, ixe[i], ize, neg, 1, nz - 1, uu, my, ca,
-                             cb, epst, wn[2], en) * wn[0][i] * wc[1][j])
+            ulo, uhi = end_media(uu, rn, 1, i, j, ny - 1, r[2][1], r[2][2])
+            acc += (e_row_k(ey, hz, hx, i, j, 1, 0, ixe[i], ize, neg, 1, nz - 1, uu, my, ca,
+                            cb, epst, wn[2], en, rn, 1) * wn[0][i] * wc[1][j])
             if lx >= 0:
                 _psi_t(ey, hz, psi[4 + lx], i, j, 1, 0, 0, i - r[0][2 * lx], j, b[0][i],
                        a[0][i], neg, 1, nz - 1, uu, my, cb)
-            _z_layers(ey, hx, psi[6], psi[7], b[2], a[2], r[2], 0, pos, i, j, uu, my, cb)
+            _z_layers(ey, hx, psi[6], psi[7], b[2], a[2], r[2], 0, pos, i, j, ulo, uhi, my, cb)
         for j in range(1, ny - 1):  # Ez (nx, ny, nz-1): +dHy/dx, -dHx/dy
             uu = uz[i, j]
-            acc += (_e_row_t(ez, hy, hx, i, j, ixe[i], iye[j], 0, nz - 1, uu, mz, ca, cb, epst,
-                             wc[2], en) * wn[0][i] * wn[1][j])
+            acc += (e_row_t(ez, hy, hx, i, j, ixe[i], iye[j], 0, nz - 1, uu, mz, ca, cb, epst,
+                            wc[2], en, rn, 2) * wn[0][i] * wn[1][j])
             if lx >= 0:
                 _psi_t(ez, hy, psi[8 + lx], i, j, 1, 0, 0, i - r[0][2 * lx], j, b[0][i],
                        a[0][i], pos, 0, nz - 1, uu, mz, cb)
@@ -357,7 +266,7 @@ def _e_plane(i, f, m, u, ca, cb, epst, ie, wn, wc, b, a, r, psi, pos, neg, en):
 
 
 @njit(parallel=True, cache=True, fastmath=_FM)
-def step(nchunk, f, ch, ih, chtab, bh, ah, rh, psih, m, u, ca, cb, epst, ie, be, ae, re, psie,
+def step(nchunk, f, ch, ih, chtab, bh, ah, rh, psih, m, u, rn, ca, cb, epst, ie, be, ae, re, psie,
          wn, wc, sg, cf, en):
     """One Yee step of the sweeps: H^(n+1/2) from E^n, then E^(n+1) on the interior
     edges, both with their CPML rows, in one pass over the planes i.
@@ -377,7 +286,8 @@ def step(nchunk, f, ch, ih, chtab, bh, ah, rh, psih, m, u, ca, cb, epst, ie, be,
     auxiliary arrays ``(Hx y lo, y hi, z lo, z hi, Hy x lo, x hi, z lo, z hi, Hz x
     lo, x hi, y lo, y hi)``, ``psie`` the E ones in the same order; ``m`` the media
     index per edge, ``u`` per (i, j) row the index when the whole row has one, else
-    -1; ``wn, wc`` the energy weights per axis at nodes / cell centres; ``sg = (1,
+    the row kind (``_rows.RUNS`` or ``_rows.GATHER``), ``rn`` the run table of the
+    ``RUNS`` rows (:func:`ringprint.fdtd._rows.row_tables`); ``wn, wc`` the energy weights per axis at nodes / cell centres; ``sg = (1,
     -1)`` in the field dtype (a float64 literal would promote the rows to float64);
     ``cf`` the cut faces of conformal metal ``(ptr, comp, j, k, 1/area, lengths)``
     (:func:`_h_conformal`; empty arrays without conformal metal).
@@ -397,11 +307,11 @@ def step(nchunk, f, ch, ih, chtab, bh, ah, rh, psih, m, u, ca, cb, epst, ie, be,
         for i in range(i0, i1):
             sh += _h_plane(i, f, ch, ih, wn, wc, mdum, chtab, bh, ah, rh, psih, pos, neg, en, cf)
             if i > i0:
-                se += _e_plane(i, f, m, u, ca, cb, epst, ie, wn, wc, be, ae, re, psie, pos, neg, en)
+                se += _e_plane(i, f, m, u, rn, ca, cb, epst, ie, wn, wc, be, ae, re, psie, pos, neg, en)
         wh += sh
         we += se
     for c in range(nchunk):
-        we += _e_plane(c * nx // nchunk, f, m, u, ca, cb, epst, ie, wn, wc, be, ae, re, psie,
+        we += _e_plane(c * nx // nchunk, f, m, u, rn, ca, cb, epst, ie, wn, wc, be, ae, re, psie,
                        pos, neg, en)
     return wh, we
 

@@ -5,6 +5,15 @@ bytes per cell in float32, so a bandwidth B bytes/s bounds the throughput by
 ``B / 48`` cell-steps/s (the roofline). The bandwidth is measured with a parallel
 triad ``a = b + s c`` over float32 arrays far larger than the caches, counting
 3 x 4 bytes per element (write-allocate traffic not counted).
+
+Beside the roofline, the full step is compared with the bare two-sweep Yee kernel
+(:mod:`ringprint.fdtd._bare_kernels`: vacuum coefficients, no CPML, no energy
+sums) on a grid of the same size, timed in the same process and interleaved with
+the full runs (full, bare, full, bare, ...; best of several rounds), so that a
+machine shared with other work slows both alike. Two full cases are timed: the
+bench case with its ``cpml_cells`` layer, and the same case padded with a layer
+thick enough to hold about ``padded_share`` of the cells (what a real case with a
+quarter-wavelength of air around a small part looks like).
 """
 
 from __future__ import annotations
@@ -14,7 +23,8 @@ import time
 import numpy as np
 from numba import njit, prange
 
-from ringprint.fdtd.grid import Grid
+from ringprint.fdtd import _bare_kernels
+from ringprint.fdtd.grid import COMPONENTS, EPS0, MU0, Grid
 from ringprint.fdtd.media import Media
 from ringprint.fdtd.pickups import FieldPickup, LoopEmfPickup
 from ringprint.fdtd.simulation import Simulation
@@ -71,20 +81,73 @@ def benchmark_simulation(n: int, cpml_cells: int = 10) -> Simulation:
     return sim
 
 
-def run_benchmark(n: int = 160, steps: int = 100, cpml_cells: int = 10) -> dict:
-    """Time ``steps`` full steps on an n^3 grid; returns the figures as a dict.
+def cpml_share(n: int, cpml_cells: int) -> float:
+    """Fraction of the n^3 cells that lie in a layer of ``cpml_cells`` on every face."""
+    return 1.0 - ((n - 2 * cpml_cells) / n) ** 3
+
+
+def cells_for_share(n: int, share: float) -> int:
+    """The layer thickness (cells) whose :func:`cpml_share` is closest to ``share``,
+    leaving the parts of :func:`benchmark_simulation` (from n/4 on) outside it."""
+    best = min(range(1, n // 4), key=lambda c: abs(cpml_share(n, c) - share))
+    return int(best)
+
+
+class _Bare:
+    """The bare two-sweep kernel on zeroed float32 arrays shaped like ``sim``'s."""
+
+    def __init__(self, sim: Simulation):
+        g = sim.grid
+        self.f = [np.zeros_like(sim.fields[c]) for c in COMPONENTS]
+        self.ch, self.ce = sim.dtype.type(sim.dt / MU0), sim.dtype.type(sim.dt / EPS0)
+        self.ih = tuple((1.0 / g.spacing[a]).astype(sim.dtype) for a in range(3))
+        self.ie = tuple((1.0 / g.dual_spacing[a]).astype(sim.dtype) for a in range(3))
+
+    def run(self, steps: int) -> None:
+        _bare_kernels.bare_steps(steps, *self.f, self.ch, self.ce, self.ih, self.ie)
+
+
+def _timed(fn, steps) -> float:
+    t = time.perf_counter()
+    fn(steps)
+    return time.perf_counter() - t
+
+
+def run_benchmark(n: int = 160, steps: int = 100, cpml_cells: int = 10, rounds: int = 3,
+                  padded_share: float = 0.4) -> dict:
+    """Time ``steps`` full steps on an n^3 grid against the bare kernel and the roofline.
 
     Keys: ``cells, steps, seconds, mcells_per_s, bandwidth_gb_s,
-    roofline_mcells_per_s, ratio`` (ratio = throughput / roofline).
+    roofline_mcells_per_s, ratio`` (ratio = throughput / roofline) of the bench
+    case; ``bare_mcells_per_s`` and ``full_over_bare`` (full rate / bare rate);
+    ``cpml_cells, cpml_share`` of the bench case; ``padded``: the same figures
+    (``cpml_cells, cpml_share, seconds, mcells_per_s, ratio, full_over_bare``) of the
+    case whose layer holds about ``padded_share`` of the cells; ``rounds``. Each
+    time is the best of ``rounds`` interleaved runs (full, bare, padded full, bare).
     """
-    sim = benchmark_simulation(n, cpml_cells)
-    sim.run(2, progress=False)  # compile (or load the cache) before timing
-    t = time.perf_counter()
-    sim.run(steps, progress=False)
-    seconds = time.perf_counter() - t
+    cases = [benchmark_simulation(n, cpml_cells)]
+    pad = cells_for_share(n, padded_share)
+    cases.append(benchmark_simulation(n, pad))
+    bare = _Bare(cases[0])
+    bare.run(2)  # compile (or load the cache) before timing
+    for sim in cases:
+        sim.run(2, progress=False)
+    best = [np.inf, np.inf]
+    best_bare = np.inf
+    for _ in range(max(1, int(rounds))):
+        for c, sim in enumerate(cases):
+            best[c] = min(best[c], _timed(lambda s: sim.run(s, progress=False), steps))
+            best_bare = min(best_bare, _timed(bare.run, steps))
     cells = n ** 3
-    mcells = cells * steps / seconds / 1e6
     bw = measure_bandwidth()
     roof = bw / BYTES_PER_CELL_STEP / 1e6
-    return {"cells": cells, "steps": steps, "seconds": seconds, "mcells_per_s": mcells,
-            "bandwidth_gb_s": bw / 1e9, "roofline_mcells_per_s": roof, "ratio": mcells / roof}
+    bare_rate = cells * steps / best_bare / 1e6
+    rates = [cells * steps / t / 1e6 for t in best]
+    out = {"cells": cells, "steps": steps, "seconds": best[0], "mcells_per_s": rates[0],
+           "bandwidth_gb_s": bw / 1e9, "roofline_mcells_per_s": roof, "ratio": rates[0] / roof,
+           "bare_mcells_per_s": bare_rate, "full_over_bare": rates[0] / bare_rate,
+           "cpml_cells": cpml_cells, "cpml_share": cpml_share(n, cpml_cells), "rounds": int(rounds)}
+    out["padded"] = {"cpml_cells": pad, "cpml_share": cpml_share(n, pad), "seconds": best[1],
+                     "mcells_per_s": rates[1], "ratio": rates[1] / roof,
+                     "full_over_bare": rates[1] / bare_rate}
+    return out

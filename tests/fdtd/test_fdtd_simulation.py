@@ -158,6 +158,24 @@ def test_energy_sampling_interval():
         _open(energy_every=0)
 
 
+def test_default_energy_sampling_keeps_each_runs_last_step():
+    """By default the energy is taken every 16 steps and on the last step of each run
+    call (a caller running in chunks, like the ring-down, sees each chunk's end); the
+    sampled values are the same numbers a per-step record holds at those steps."""
+    every = _cavity(energy_every=1)
+    every.run(64, progress=False)
+    grid = Grid.uniform((12, 10, 8), D)
+    sparse = Simulation(grid, Media(grid), boundaries="pec", dtype=np.float64)
+    for s in every.sources:
+        sparse.add_source(s)
+    sparse.run(40, progress=False)
+    sparse.run(24, progress=False)
+    t, e = sparse.energy_record()
+    steps = np.array([0, 16, 32, 39, 48, 63])
+    np.testing.assert_array_equal(t, steps * sparse.dt)
+    np.testing.assert_array_equal(e, every.records()["energy"][steps])
+
+
 def test_progress_bar_can_be_forced(capsys):
     sim = _cavity()
     sim.run(40, progress=True)
