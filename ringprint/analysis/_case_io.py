@@ -13,6 +13,7 @@ from typing import TYPE_CHECKING
 import tomli_w
 
 from ringprint.analysis._units import format_frequency, to_user_length
+from ringprint.analysis.tolerance import resolved_tolerances
 
 if TYPE_CHECKING:  # pragma: no cover
     from ringprint.analysis.case import Case, Part
@@ -69,6 +70,10 @@ def resolved_dict(case: Case) -> dict:
         "rotate": {"axis": list(p.rotate_axis), "degrees": p.rotate_degrees},
         "scale": p.scale, "mirror": p.mirror or "none", "priority": p.priority,
     } for p in case.parts]
+    out["tolerance"], own = resolved_tolerances(case.tolerances, unit,
+                                                [p.name for p in case.parts if p.material.is_pec])
+    for entry in out["part"]:
+        entry.update({"tolerance": own[entry["name"]]} if entry["name"] in own else {})
     if case.custom_bands:
         out["band"] = [{"name": b.name, "low": format_frequency(b.low_hz),
                         "high": format_frequency(b.high_hz), "source": b.source}
