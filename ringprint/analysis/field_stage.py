@@ -26,6 +26,7 @@ from ringprint.analysis.fieldset_io import (FIELDS_NAME, IMAGE_SUFFIX, RECTILINE
 from ringprint.analysis.mode_fields import compute_fields
 from ringprint.analysis.modes import judge_modes
 from ringprint.analysis.participation import Regions, participation
+from ringprint.analysis.sensitivity import attach_sensitivities
 from ringprint.errors import RingprintError
 
 log = logging.getLogger("ringprint.run")
@@ -46,12 +47,14 @@ def remove_stale(out_dir) -> None:
 
 
 def field_section(summary, fs, images: bool = True) -> str:
-    """The report's per-hazard field pictures and touch maps (empty without fields or images)."""
+    """The report's "what moves it" tables, then the per-hazard field pictures and touch
+    maps (pictures only with fields and images; tables only with sensitivities)."""
+    from ringprint.analysis.report_sensitivity import sensitivity_section
     if fs is None or not images:
-        return ""
+        return sensitivity_section(summary)
     from ringprint.analysis.report_fields import hazard_field_section
     worst = {m["index"]: m.get("touch", {}).get("worst", []) for m in summary["modes"]}
-    return hazard_field_section(summary, fs, worst)
+    return sensitivity_section(summary) + hazard_field_section(summary, fs, worst)
 
 
 def check_budget(model, budget_bytes: float) -> None:
@@ -82,6 +85,7 @@ def run_field_stage(model, probe, ring, modes, hazards, out_dir, notes, progress
         m["rings_in"] = p["rings_in"]
     for h in hazards:
         h["part"] = modes[h["mode"] - 1].get("rings_in")
+    attach_sensitivities(modes, fs, model, notes)
     try:
         fs.touch = touch.touch_maps(fs, tissue=TOUCH_TISSUE)
     except RingprintError as exc:  # e.g. no air outside the parts: keep everything else

@@ -34,8 +34,8 @@ def sensitivity_rows(mode: Mapping) -> list[tuple[str, str, float, str]]:
         if s.get("eps_r_mhz_per_percent") is not None:
             rows.append((name, "eps_r", s["eps_r_mhz_per_percent"], "+1 % of eps_r"))
         rows.append((name, "surface offset (outward)", s["offset_mhz_per_0_1_mm"], "+0.1 mm"))
-        rows += [(name, f"move along {a}", v, "+0.1 mm")
-                 for a, v in zip(AXES, s["move_mhz_per_0_1_mm"])]
+        rows += [(name, f"move along {a}" + (" (sheet: edges not counted)" if s.get("sheet") else ""),
+                  v, "+0.1 mm") for a, v in zip(AXES, s["move_mhz_per_0_1_mm"])]
     return sorted(rows, key=lambda r: -abs(r[2]))
 
 
@@ -80,6 +80,11 @@ def sensitivity_section(summary: Mapping) -> str:
         m = modes[i]
         out.append(f"<h3>Mode {i}, {_e(format_frequency(m['frequency_hz']))}</h3>")
         out.append(_mode_table(m))
+        check = m["sensitivity"].get("scale_check")
+        if check is not None:
+            out.append(f'<p class="muted">Scale check: the terms add up to {check:.2f} of the '
+                       "exact shift of a uniform scaling (1 for a complete set; far from 1: read "
+                       "them as rough).</p>")
         out.append(_tolerance_text(m))
     out.append("</section>")
     return "\n".join(out)

@@ -30,10 +30,17 @@ its outward normal (the part grows); a positive move shifts the whole part along
 Surface values use the sampling rule of :mod:`ringprint.analysis.conductor_loss`
 (:func:`~ringprint.analysis.conductor_loss.surface_values`): on the part's own triangles
 (midpoint quadrature), from the nodes outside the part (no metal), extrapolated to the
-surface from 1, 2, 3 lattice steps out, ``eps`` outside interpolated the same way. A
+surface from 1, 2, 3 lattice steps out, ``eps`` outside interpolated the same way from
+the media the part masks give (:func:`media_eps`). A
 point where no outside node is usable (a face pressed against metal) adds nothing;
 ``surface_covered`` is the sampled share of the area. A two-sided sheet gets both faces,
 so its offset is a thickening on both sides.
+
+**Sheets.** A zero-thickness sheet's offset is a thickening; moving it within its own
+plane or growing its outline moves its *edges*, a line these surface terms do not see
+(the field is singular there), so for a sheet those parts of ``move`` and ``scale`` are
+missing. ``scale_check`` (``scale_all_hz / -f``, 1 for a complete set of terms) shows
+it, and the run notes any mode whose check is off by more than :data:`SCALE_CHECK_LIMIT`.
 
 First order holds while the shift is a small part of the distance to the nearest other
 mode; the report's units (MHz per 0.1 mm, MHz per 1 % of eps_r) stay well inside that
@@ -53,7 +60,7 @@ from ringprint.errors import RingprintError
 from ringprint.fdtd import EPS0, MU0
 
 __all__ = ["Boundary", "boundaries", "eps_sensitivity", "surface_terms", "part_sensitivities",
-           "mode_sensitivities", "attach_sensitivities", "REPORT_LENGTH_M", "REPORT_EPS_FRACTION"]
+           "mode_sensitivities", "attach_sensitivities", "media_eps", "REPORT_LENGTH_M", "REPORT_EPS_FRACTION"]
 
 #: Report units: MHz per 0.1 mm of offset or move, MHz per 1 % of eps_r.
 REPORT_LENGTH_M = 1e-4
@@ -63,6 +70,8 @@ CONVENTION = ("first order; offset > 0: the part's surface moves outward (the pa
               "move > 0: the part shifts along +x, +y, +z; scale_hz: per unit relative scale "
               "of the part about centre_m; scale_all_hz: of every part about the origin "
               "(-f for an isolated assembly in free space)")
+#: Largest departure of ``scale_check`` from 1 before the run notes the mode.
+SCALE_CHECK_LIMIT = 0.2
 #: Surface points times fields sampled at once (bounds the memory: 16 bytes x 3 each).
 POINTS_BUDGET = 1 << 20
 
@@ -75,6 +84,7 @@ class Boundary:
     triangles: np.ndarray      #: (m, 3, 3) vertex coordinates (m), outward-oriented
     two_sided: np.ndarray      #: (m,) bool, True for sheet triangles (both faces)
     conductor: bool
+    eps_r: float | None = None   #: a dielectric's own eps_r (default: its lattice nodes')
 
     def __post_init__(self):
         tri = np.asarray(self.triangles, dtype=float)
@@ -97,8 +107,25 @@ def boundaries(model) -> list[Boundary]:
     for p in model.parts:
         tris = [s.vertices[s.faces] for s in p.surfaces]
         sheet = [np.full(len(s.faces), s.kind == "sheet") for s in p.surfaces]
-        out.append(Boundary(p.name, np.concatenate(tris), np.concatenate(sheet), p.is_conductor))
+        eps_r = None if p.is_conductor else float(model.case.medium(p.part)[0])
+        out.append(Boundary(p.name, np.concatenate(tris), np.concatenate(sheet), p.is_conductor, eps_r))
     return out
+
+
+def _inside(fs: FieldSet, name: str) -> np.ndarray:
+    """The part's lattice nodes that are not metal (none when the lattice has no mask)."""
+    own = fs.parts.get(name)
+    return np.zeros(fs.shape, bool) if own is None else own & ~np.asarray(fs.pec, bool)
+
+
+def _part_eps(fs: FieldSet, boundary: Boundary) -> float:
+    if boundary.eps_r is not None:
+        return float(boundary.eps_r)
+    inside = _inside(fs, boundary.name)
+    if not inside.any():
+        raise RingprintError(f"part {boundary.name!r} has no lattice node inside it and no eps_r "
+                             "given; give Boundary.eps_r")
+    return float(np.median(fs.eps_r[inside]))
 
 
 def _energies(fs: FieldSet) -> list[float]:
@@ -119,13 +146,26 @@ def eps_sensitivity(fs: FieldSet, mask: np.ndarray, energies=None) -> np.ndarray
                      / (4.0 * w) for m, w in zip(fs.modes, energies)])
 
 
-def surface_terms(fs: FieldSet, boundary: Boundary, energies=None, samples: int = SAMPLES):
+def media_eps(fs: FieldSet, parts) -> np.ndarray:
+    """Each lattice node's medium by the part masks: a dielectric part's own eps_r inside
+    it, 1 (air) elsewhere. The lattice's ``eps_r`` is not used for the medium beside a
+    surface: its nodes next to an interface hold averaged values (neither medium)."""
+    out = np.ones(fs.shape)
+    for b in parts:
+        if not b.conductor and b.name in fs.parts:
+            out[fs.parts[b.name]] = _part_eps(fs, b)
+    return out
+
+
+def surface_terms(fs: FieldSet, boundary: Boundary, energies=None, samples: int = SAMPLES,
+                  media=None):
     """Quadrature of one part's surface and the offset density of every mode on it.
 
     Returns ``(points (p, 3), normals (p, 3), areas (p,), density (n_modes, p), ok (p,))``:
     ``density`` is ``df/dh`` per unit area (Hz per m of outward offset per m^2), by
     Slater's theorem on a conductor and by Johnson et al. (2002) on a dielectric (see
-    the module docstring); 0 where ``ok`` is False.
+    the module docstring); 0 where ``ok`` is False. ``media``: the eps_r of the medium
+    at each node (:func:`media_eps`; default from this part alone, air around it).
 
     References
     ----------
@@ -141,15 +181,11 @@ def surface_terms(fs: FieldSet, boundary: Boundary, energies=None, samples: int 
             metal |= fs.parts[name]
     own = fs.parts.get(boundary.name)
     outside = ~metal if own is None else ~metal & ~own
-    if not boundary.conductor:
-        inside_eps = fs.eps_r[own & ~metal] if own is not None and np.any(own & ~metal) else None
-        if inside_eps is None:
-            raise RingprintError(f"part {boundary.name!r} has no lattice node inside it; its "
-                                 "eps_r sensitivity needs a finer field lattice (raise output.field_memory)")
-        eps_in = float(np.median(inside_eps))
+    eps_in = 1.0 if boundary.conductor else _part_eps(fs, boundary)
     density = np.zeros((len(fs.modes), len(pts)))
     ok = np.zeros(len(pts), bool)
-    fields = [fs.eps_r[None]] + [m.e for m in fs.modes] + [m.h for m in fs.modes]
+    media = media_eps(fs, [boundary]) if media is None else media
+    fields = [media[None]] + [m.e for m in fs.modes] + [m.h for m in fs.modes]
     k = len(fs.modes)
     chunk = max(1024, min(CHUNK, POINTS_BUDGET // len(fields)))
     for lo in range(0, len(pts), chunk):
@@ -175,28 +211,30 @@ def surface_terms(fs: FieldSet, boundary: Boundary, energies=None, samples: int 
     return pts, nrm, area, density, ok
 
 
-def part_sensitivities(fs: FieldSet, boundary: Boundary, energies=None, samples: int = SAMPLES) -> list[dict]:
+def part_sensitivities(fs: FieldSet, boundary: Boundary, energies=None, samples: int = SAMPLES,
+                       media=None) -> list[dict]:
     """One part's sensitivities for every mode of ``fs`` (SI units and report units).
 
     Each entry: ``kind`` ("conductor" or "dielectric"), ``eps_r_hz_per_unit`` (df/d eps_r,
     None for a conductor), ``offset_hz_per_m``, ``move_hz_per_m`` ([x, y, z]),
-    ``scale_hz`` (per unit relative scale about ``centre_m``), ``surface_covered``, and
+    ``scale_hz`` (per unit relative scale about ``centre_m``), ``surface_covered``,
+    ``nodes_inside`` (lattice nodes in the part; a dielectric without any has no eps_r
+    term: None), and
     the same in report units: ``eps_r_mhz_per_percent`` (per 1 % of the part's eps_r),
     ``offset_mhz_per_0_1_mm``, ``move_mhz_per_0_1_mm``.
     """
     energies = _energies(fs) if energies is None else energies
-    pts, nrm, area, dens, ok = surface_terms(fs, boundary, energies, samples)
+    pts, nrm, area, dens, ok = surface_terms(fs, boundary, energies, samples, media)
     centre = boundary.centre
     weighted = dens * area[None]
     offset = weighted.sum(axis=1)
     move = weighted @ nrm
     scale = weighted @ np.einsum("pa,pa->p", pts - centre, nrm)
     covered = float(area[ok].sum() / area.sum()) if area.sum() > 0 else 0.0
-    eps = None
-    if not boundary.conductor:
-        own = fs.parts[boundary.name]
-        eps = eps_sensitivity(fs, own, energies)
-        eps_r = float(np.median(fs.eps_r[own & ~np.asarray(fs.pec, bool)]))
+    eps, inside = None, _inside(fs, boundary.name)
+    if not boundary.conductor and inside.any():     # a part thinner than a lattice step has none
+        eps = eps_sensitivity(fs, inside, energies)
+        eps_r = _part_eps(fs, boundary)
     out = []
     for j in range(len(fs.modes)):
         to_report = REPORT_LENGTH_M / 1e6
@@ -207,6 +245,8 @@ def part_sensitivities(fs: FieldSet, boundary: Boundary, energies=None, samples:
                  "scale_hz": float(scale[j]),
                  "centre_m": [float(v) for v in centre],
                  "surface_covered": covered,
+                 "nodes_inside": int(inside.sum()),
+                 "sheet": bool(boundary.two_sided.any()),
                  "eps_r_mhz_per_percent": None if eps is None
                  else float(eps[j]) * REPORT_EPS_FRACTION * eps_r / 1e6,
                  "offset_mhz_per_0_1_mm": float(offset[j]) * to_report,
@@ -220,18 +260,17 @@ def mode_sensitivities(fs: FieldSet, parts, samples: int = SAMPLES) -> dict:
 
     ``parts`` is a sequence of :class:`Boundary` (e.g. :func:`boundaries`); each entry is
     as :func:`part_sensitivities` gives it. Parts the lattice has no mask for (none of
-    their nodes) are left out of the dielectric terms with a RingprintError naming them.
+    their nodes) have no eps_r term.
     """
-    energies = _energies(fs)
+    energies, media = _energies(fs), media_eps(fs, parts)
     per_mode = {m.index: {"convention": CONVENTION, "parts": {}, "scale_all_hz": 0.0} for m in fs.modes}
     for b in parts:
-        if not b.conductor and b.name not in fs.parts:
-            raise RingprintError(f"part {b.name!r} has no mask on the field lattice; its "
-                                 "sensitivities need one")
-        for m, entry in zip(fs.modes, part_sensitivities(fs, b, energies, samples)):
+        for m, entry in zip(fs.modes, part_sensitivities(fs, b, energies, samples, media)):
             per_mode[m.index]["parts"][b.name] = entry
             per_mode[m.index]["scale_all_hz"] += entry["scale_hz"] + float(
                 np.dot(entry["centre_m"], entry["move_hz_per_m"]))
+    for m in fs.modes:
+        per_mode[m.index]["scale_check"] = per_mode[m.index]["scale_all_hz"] / -m.frequency_hz
     return per_mode
 
 
@@ -246,4 +285,14 @@ def attach_sensitivities(modes, fs: FieldSet, model, notes: list) -> None:
     for m in modes:
         if m["index"] in per_mode:
             m["sensitivity"] = per_mode[m["index"]]
+    first = next(iter(per_mode.values()), {"parts": {}})["parts"]
+    notes += [f"part {name!r} holds no node of the field lattice (thinner than a lattice step): "
+              "its eps_r sensitivity is not given; its surface terms are" for name, e in first.items()
+              if e["kind"] == "dielectric" and e["nodes_inside"] == 0]
+    off = [i for i, p in per_mode.items() if abs(p["scale_check"] - 1.0) > SCALE_CHECK_LIMIT]
+    if off:
+        notes.append(f"sensitivities of mode {', '.join(map(str, off))}: the scale terms add up to "
+                     + ", ".join(f"{per_mode[i]['scale_check']:.2f}" for i in off) + " of -f (1 expected)"
+                     "; read them as rough (a sheet's edges, a strongly radiating mode or a coarse "
+                     "field lattice)")
     attach_spreads(modes, model.case.tolerances, model.case.bands)
