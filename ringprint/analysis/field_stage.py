@@ -5,9 +5,11 @@ After the modes are known: :func:`ringprint.analysis.mode_fields.compute_fields`
 becomes the combined Q and the bands are judged again, before anything else uses Q),
 :func:`ringprint.analysis.participation.participation` per mode
 (into modes.json: ``participation``, ``participation_detail``, ``rings_in``; the
-hazard entries gain ``part``), the touch maps of :mod:`ringprint.analysis.touch`
-(modes.json ``touch``: the worst spots), then ``fields.h5`` and one VTK file per
-mode (``mode_NN.vti`` on a uniform lattice, ``mode_NN.vtr`` on a graded one).
+hazard entries gain ``part``), each mode's ``sensitivity`` and, with tolerances in
+the case, its ``tolerance`` spread (:mod:`ringprint.analysis.sensitivity`), the touch
+maps of :mod:`ringprint.analysis.touch` (modes.json ``touch``: the worst spots), then
+``fields.h5`` and one VTK file per mode (``mode_NN.vti`` on a uniform lattice,
+``mode_NN.vtr`` on a graded one).
 
 When the budget ``output.field_memory`` cannot hold the fields of all the modes
 found, the results are written without fields and a note says what to raise:
