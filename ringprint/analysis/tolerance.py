@@ -99,6 +99,8 @@ def _one(ck, table: dict, here: tuple, unit: float, base: PartTolerance, conduct
 
 def parse_tolerances(ck, data: dict, parts, unit: float) -> Tolerances:
     """The ``[tolerance]`` table and each ``[[part]]``'s ``tolerance`` (SI; one-line errors)."""
+    if not isinstance(data.get("tolerance", {}), dict):
+        ck.fail(("tolerance",), "expected a [tolerance] table with position, offset and/or eps_r")
     table = ck.table(data.get("tolerance", {}), ("tolerance",), TOLERANCE_KEYS)
     default = _one(ck, table, ("tolerance",), unit, PartTolerance(), conductor=False)
     conductor = {p.name: p.material.is_pec for p in parts}
@@ -106,6 +108,9 @@ def parse_tolerances(ck, data: dict, parts, unit: float) -> Tolerances:
     for i, t in enumerate(data.get("part") or []):
         if isinstance(t, dict) and "tolerance" in t:
             here = ("part", i, "tolerance")
+            if not isinstance(t["tolerance"], dict):
+                ck.fail(here, "expected a table such as tolerance = { position = 0.1, offset = 0.05, "
+                        "eps_r = 5 } (any of those keys)")
             sub = ck.table(t["tolerance"], here, TOLERANCE_KEYS)
             own.append((t["name"], _one(ck, sub, here, unit, default, conductor[t["name"]])))
     return Tolerances(default, tuple(own))
