@@ -205,10 +205,12 @@ def mode_spread(mode: dict, tol: Tolerances, bands) -> dict | None:
 
 
 def attach_spreads(modes, tol: Tolerances | None, bands) -> None:
-    """Give every mode with sensitivities its ``tolerance`` entry (none when ``tol`` is empty)."""
+    """Give every mode with sensitivities its ``tolerance`` entry (none when ``tol`` is empty),
+    and the scalars ``tolerance_rss_hz``, ``tolerance_worst_hz`` (columns of modes.csv)."""
     if tol is None or tol.empty:
         return
     for m in modes:
         spread = mode_spread(m, tol, bands)
         if spread is not None:
             m["tolerance"] = spread
+            m["tolerance_rss_hz"], m["tolerance_worst_hz"] = spread["rss_hz"], spread["worst_hz"]

@@ -139,6 +139,8 @@ def test_tolerance_spread_and_band_share_in_modes_json_and_report(runs):
     term = mode["sensitivity"]["parts"]["ball"]["eps_r_mhz_per_percent"] * 1e6 * TOLERANCE_PERCENT
     assert tol["rss_hz"] == pytest.approx(abs(term), rel=1e-9)
     assert tol["worst_hz"] == pytest.approx(abs(term), rel=1e-9)
+    assert mode["tolerance_rss_hz"] == tol["rss_hz"] and mode["tolerance_worst_hz"] == tol["worst_hz"]
+    assert "tolerance_rss_hz" in (folder / "base" / "modes.csv").read_text().splitlines()[0]
     f, lo, hi = mode["frequency_hz"], 0.975e9, 1.1e9
     overlap = max(0.0, min(hi, f + abs(term)) - max(lo, f - abs(term)))
     verdict = {b["band"]: b["inside_share"] for b in tol["bands"]}
