@@ -60,6 +60,8 @@ except ImportError:
     import _e2e
     import _references as ref
 
+pytestmark = pytest.mark.slow     # two runs, one with fields: about 20 s of one core
+
 EPS_R = 36.0
 RADIUS_MM = 25.0
 STEP = 0.005            # relative eps_r step of the re-simulated variant
