@@ -22,7 +22,7 @@ __all__ = ["Checker"]
 ARRAY_TABLES = ("part", "band", "assembly")
 #: Arrays of tables inside an element of one of ARRAY_TABLES (``[[assembly.rule]]``).
 NESTED_ARRAYS = ("rule",)
-TABLES = ("spectrum", "probe", "grid", "analysis", "output")
+TABLES = ("spectrum", "probe", "grid", "analysis", "output", "tolerance")
 
 
 class Checker:

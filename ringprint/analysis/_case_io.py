@@ -14,6 +14,7 @@ from typing import TYPE_CHECKING
 import tomli_w
 
 from ringprint.analysis._units import format_frequency, to_user_length
+from ringprint.analysis.tolerance import resolved_tolerances
 
 if TYPE_CHECKING:  # pragma: no cover
     from ringprint.analysis.case import Case, Part
@@ -82,6 +83,10 @@ def resolved_dict(case: Case, relative_to=None) -> dict:
         "rotate": {"axis": list(p.rotate_axis), "degrees": p.rotate_degrees},
         "scale": p.scale, "mirror": p.mirror or "none", "overlap_rank": p.overlap_rank,
     } for p in case.parts]
+    out["tolerance"], own = resolved_tolerances(case.tolerances, unit,
+                                                [p.name for p in case.parts if p.material.is_pec])
+    for entry in out["part"]:
+        entry.update({"tolerance": own[entry["name"]]} if entry["name"] in own else {})
     if case.custom_bands:
         out["band"] = [{"name": b.name, "low": format_frequency(b.low_hz),
                         "high": format_frequency(b.high_hz), "source": b.source}

@@ -67,6 +67,9 @@ unit such as ``"2.4 GHz"``)::
     images = true                       # write mode pictures
     field_memory = 1024                 # MiB the mode fields may take (coarser lattice beyond)
 
+    [tolerance]                         # optional; and per part: tolerance = { ... }
+    position = 0.1                      # see ringprint.analysis.tolerance (offset, eps_r %)
+
 At least one part, from ``[[part]]`` or ``[[assembly]]``; part names are unique.
 Renamed keys (the old name still works, with a note in ``Case.notes``): ``bands`` ->
 ``band_presets``, ``priority`` -> ``overlap_rank``, ``[grid] absorber_cells`` ->
@@ -97,13 +100,14 @@ from ringprint.analysis._case_symmetry import parse_symmetry
 from ringprint.analysis._units import LENGTH_UNITS
 from ringprint.analysis.bands import DEFAULT_MARGIN, Band, preset_bands, preset_renamed
 from ringprint.analysis.materials import Material, conversion_frequency
+from ringprint.analysis.tolerance import Tolerances, parse_tolerances
 from ringprint.analysis.uncertainty import check_grid_study
 from ringprint.errors import RingprintError
 
 __all__ = ["Case", "Part", "Probe", "Spectrum", "Grid", "Analysis", "Output", "load_case"]
 
 TOP_KEYS = ("title", "units", "band_presets", "spectrum", "part", "assembly", "band", "probe", "grid",
-            "analysis", "output")
+            "analysis", "output", "tolerance")
 AXES = assembly.AXES
 #: Default memory for the mode fields (MiB), case key output.field_memory.
 DEFAULT_FIELD_MEMORY_MB = 1024.0
@@ -211,6 +215,7 @@ class Case:
     analysis: Analysis
     output: Output
     notes: tuple[str, ...] = ()    #: deprecation notes (old key names), each once
+    tolerances: Tolerances = Tolerances()  #: [tolerance] and per-part tolerance (SI)
 
     @property
     def bands(self) -> tuple[Band, ...]:
@@ -305,7 +310,8 @@ def _build(ck: Checker, data: dict, source: Path) -> Case:
                         table.get("field_memory", DEFAULT_FIELD_MEMORY_MB), ("output", "field_memory"),
                         hint="mebibytes, e.g. 1024"))
     return Case(source, title, units, unit, spectrum, parts, presets, custom, probe, grid,
-                analysis, output, tuple(ck.notes))
+                analysis, output, tuple(ck.notes),
+                parse_tolerances(ck, data, parts, unit))
 
 
 #: Widest f_max / f_min one run covers: the source pulse (a Gaussian-modulated sine,
@@ -330,7 +336,7 @@ def _spectrum(ck: Checker, table) -> Spectrum:
     return Spectrum(f_min, f_max, loss_at)
 
 
-PART_KEYS = ("name", "file", "material", "body") + assembly.PLACEMENT_KEYS + ("overlap_rank",)
+PART_KEYS = ("name", "file", "material", "body") + assembly.PLACEMENT_KEYS + ("overlap_rank", "tolerance")
 
 
 def _parts(ck: Checker, data: dict, folder: Path, unit: float) -> tuple[Part, ...]:

@@ -52,7 +52,7 @@ from ringprint.analysis.materials import surface_resistance
 from ringprint.errors import RingprintError
 
 __all__ = ["SAMPLES", "MIN_WEIGHT", "ConductorSurface", "ModeLoss", "conductor_surfaces",
-           "quadrature", "surface_h", "mode_losses", "combined_q", "attach_losses",
+           "quadrature", "surface_values", "surface_h", "mode_losses", "combined_q", "attach_losses",
            "mark_without_losses", "coverage_notes", "no_fields_note"]
 
 #: Samples along the normal (1, 2, ... lattice steps out) fitted by a polynomial.
@@ -212,6 +212,30 @@ def _air_nodes(fs: FieldSet) -> np.ndarray:
     return np.ascontiguousarray(air).ravel()
 
 
+def surface_values(fs: FieldSet, points, normals, fields, samples: int = SAMPLES, nodes=None):
+    """Fields at up to :data:`CHUNK` surface points, extrapolated along ``normals`` from the
+    ``nodes`` (bool over the lattice; default the air nodes) by the module's sampling rule.
+
+    ``fields``: arrays ``(c, nx, ny, nz)``, any ``c`` (a phasor, or ``eps_r[None]``).
+    Returns ``(values, ok (p,))``, a ``(p, c)`` array per field, 0 where nothing was usable.
+    """
+    axes = (fs.x, fs.y, fs.z)
+    usable = _air_nodes(fs) if nodes is None else np.ascontiguousarray(nodes, bool).ravel()
+    p, n = np.asarray(points, float), np.asarray(normals, float)
+    step = _cell_of(axes, p)[1].max(axis=1)
+    stencils = [_stencil(axes, usable, fs.shape, p + n * (k * step)[:, None])
+                for k in range(1, samples + 1)]
+    s = np.stack([np.einsum("ca,ca->c", c - p, n) for _, _, c, _ in stencils], axis=1)
+    lag = _extrapolation_weights(s, np.stack([o for *_, o in stencils], axis=1), step)
+
+    def extrapolated(f):
+        flat_f = np.asarray(f).reshape(len(f), -1)
+        return sum(lag[:, k, None] * np.stack([np.einsum("ck,ck->c", w, flat_f[a][flat])
+                                               for a in range(len(f))], axis=1)
+                   for k, (flat, w, _, _) in enumerate(stencils))
+    return [extrapolated(f) for f in fields], lag.any(axis=1)
+
+
 def surface_h(fs: FieldSet, points, normals, h_fields, samples: int = SAMPLES):
     """Tangential H on a conductor surface, extrapolated from the air nodes.
 
@@ -233,28 +257,14 @@ def surface_h(fs: FieldSet, points, normals, h_fields, samples: int = SAMPLES):
     ok : array (p,) bool
         Points with at least one usable sample.
     """
-    axes = (fs.x, fs.y, fs.z)
-    air = _air_nodes(fs)
-    points, normals = np.asarray(points, float), np.asarray(normals, float)
-    out = np.zeros((len(h_fields), len(points)))
-    sampled = np.zeros(len(points), bool)
-    flats = [np.asarray(h).reshape(3, -1) for h in h_fields]
+    air, points, normals = _air_nodes(fs), np.asarray(points, float), np.asarray(normals, float)
+    out, sampled = np.zeros((len(h_fields), len(points))), np.zeros(len(points), bool)
     for lo in range(0, len(points), CHUNK):
-        p, n = points[lo:lo + CHUNK], normals[lo:lo + CHUNK]
-        step = _cell_of(axes, p)[1].max(axis=1)
-        stencils = [_stencil(axes, air, fs.shape, p + n * (k * step)[:, None])
-                    for k in range(1, samples + 1)]
-        s = np.stack([np.einsum("ca,ca->c", c - p, n) for _, _, c, _ in stencils], axis=1)
-        ok = np.stack([o for *_, o in stencils], axis=1)
-        lag = _extrapolation_weights(s, ok, step)
-        sampled[lo:lo + CHUNK] = lag.any(axis=1)
-        for m, hf in enumerate(flats):
-            h0 = np.zeros((len(p), 3), complex)
-            for k, (flat, w, _, _) in enumerate(stencils):
-                hk = np.stack([np.einsum("ck,ck->c", w, hf[a][flat]) for a in range(3)], axis=1)
-                h0 += lag[:, k, None] * hk
-            ht = h0 - n * np.einsum("ca,ca->c", h0, n)[:, None]
-            out[m, lo:lo + CHUNK] = np.sum(ht.real ** 2 + ht.imag ** 2, axis=1)
+        n = normals[lo:lo + CHUNK]
+        h0, sampled[lo:lo + CHUNK] = surface_values(fs, points[lo:lo + CHUNK], n, h_fields, samples, air)
+        h0 = np.stack(h0)
+        ht = h0 - n[None] * np.einsum("mca,ca->mc", h0, n)[..., None]
+        out[:, lo:lo + CHUNK] = np.sum(ht.real ** 2 + ht.imag ** 2, axis=2)
     return out, sampled
 
 

@@ -7,9 +7,11 @@ model by :mod:`ringprint.analysis.symmetry_fields`), the conductor loss of
 are judged again, before anything else uses Q),
 :func:`ringprint.analysis.participation.participation` per mode
 (into modes.json: ``participation``, ``participation_detail``, ``rings_in``; the
-hazard entries gain ``part``), the touch maps of :mod:`ringprint.analysis.touch`
-(modes.json ``touch``: the worst spots), then ``fields.h5`` and one VTK file per
-mode (``mode_NN.vti`` on a uniform lattice, ``mode_NN.vtr`` on a graded one).
+hazard entries gain ``part``), each mode's ``sensitivity`` and, with tolerances in
+the case, its ``tolerance`` spread (:mod:`ringprint.analysis.sensitivity`), the touch
+maps of :mod:`ringprint.analysis.touch` (modes.json ``touch``: the worst spots), then
+``fields.h5`` and one VTK file per mode (``mode_NN.vti`` on a uniform lattice,
+``mode_NN.vtr`` on a graded one).
 
 When the budget ``output.field_memory`` cannot hold the fields of all the modes
 found, the results are written without fields and a note says what to raise:
@@ -27,6 +29,7 @@ from ringprint.analysis.fieldset_io import (FIELDS_NAME, IMAGE_SUFFIX, RECTILINE
                                             write_fieldset, write_mode_files)
 from ringprint.analysis.modes import judge_modes
 from ringprint.analysis.participation import Regions, participation
+from ringprint.analysis.sensitivity import attach_sensitivities
 from ringprint.errors import RingprintError
 
 log = logging.getLogger("ringprint.run")
@@ -47,12 +50,14 @@ def remove_stale(out_dir) -> None:
 
 
 def field_section(summary, fs, images: bool = True) -> str:
-    """The report's per-hazard field pictures and touch maps (empty without fields or images)."""
+    """The report's "what moves it" tables, then the per-hazard field pictures and touch
+    maps (pictures only with fields and images; tables only with sensitivities)."""
+    from ringprint.analysis.report_sensitivity import sensitivity_section
     if fs is None or not images:
-        return ""
+        return sensitivity_section(summary)
     from ringprint.analysis.report_fields import hazard_field_section
     worst = {m["index"]: m.get("touch", {}).get("worst", []) for m in summary["modes"]}
-    return hazard_field_section(summary, fs, worst)
+    return sensitivity_section(summary) + hazard_field_section(summary, fs, worst)
 
 
 def check_budget(model, budget_bytes: float) -> None:
@@ -86,6 +91,7 @@ def run_field_stage(model, probe, ring, modes, hazards, out_dir, notes, progress
         m["rings_in"] = p["rings_in"]
     for h in hazards:
         h["part"] = modes[h["mode"] - 1].get("rings_in")
+    attach_sensitivities(modes, fs, model, notes)
     try:
         fs.touch = touch.touch_maps(fs, tissue=TOUCH_TISSUE)
     except RingprintError as exc:  # e.g. no air outside the parts: keep everything else

@@ -35,8 +35,9 @@ from ringprint.analysis.separation import separate
 from ringprint.meshing import primitives
 
 try:  # works both as a rootdir-relative module and inside a tests package
-    from . import _e2e
+    from . import _box_cavity, _e2e
 except ImportError:
+    import _box_cavity
     import _e2e
 
 ETA0 = math.sqrt(mu_0 / epsilon_0)
@@ -59,49 +60,10 @@ A, B, D = 0.020, 0.010, 0.030
 CELL = 0.5e-3
 
 
-def _box_sim(grid):
-    sim = fdtd.Simulation(grid, fdtd.Media(grid), boundaries="pec", dtype=np.float64)
-    sim.add_source(fdtd.LoopSource(center=(0.37 * A, 0.5 * B, 0.2 * D), normal="x",
-                                   waveform=fdtd.GaussianPulse(6e9, 12e9), size_cells=2))
-    return sim
-
-
 @pytest.fixture(scope="module")
 def te101():
-    """The solver's own TE101 field of a closed PEC box (two passes: poles, then DFT),
-    on the node lattice plus the wall nodes around it (PEC nodes, no field), as the
-    run's lattice holds a metal wall."""
-    grid = fdtd.Grid.uniform((round(A / CELL), round(B / CELL), round(D / CELL)), CELL)
-    sim = _box_sim(grid)
-    sim.add_pickup(fdtd.FieldPickup("Ey", (0.31 * A, 0.4 * B, 0.43 * D)), "ey")
-    sim.add_pickup(fdtd.FieldPickup("Hz", (0.13 * A, 0.6 * B, 0.21 * D)), "hz")
-    start = int(np.ceil(sim.source_end_time / sim.dt))
-    steps = start + 6000
-    sim.run(steps)
-    rec = sim.records()
-    sig = np.stack([rec["ey"][start:], rec["hz"][start:]])
-    found = harmonic_inversion(sig / np.abs(sig).max(axis=1, keepdims=True), sim.dt, 4e9, 16e9)
-    f101 = C0 / 2 * math.hypot(1 / A, 1 / D)
-    mode = min(found, key=lambda r: abs(r.frequency_hz - f101))
-    sim2 = _box_sim(grid)
-    dft = fdtd.NodeDft(np.array([mode.frequency_hz]), stride=1,
-                       every=sample_every(sim2.dt, 16e9), start_step=start)
-    sim2.add_dft(dft)
-    sim2.run(steps)
-    omega = np.array([2 * np.pi * mode.frequency_hz - 1j * mode.decay_rate])
-    sums_e, sums_h = dft.sums()
-    e, _ = separate(sums_e, dft.times_e, omega)
-    h, _ = separate(sums_h, dft.times_h, omega)
-    ek, hk = normalize(e[0], h[0], np.ones(dft.counts), CELL ** 3)
-    pad = ((0, 0), (1, 1), (1, 1), (1, 1))
-    x, y, z = grid.nodes
-    shape = (x.size, y.size, z.size)
-    wall = np.ones(shape, bool)
-    wall[1:-1, 1:-1, 1:-1] = False
-    fs = FieldSet(x, y, z, eps_r=np.ones(shape, np.float32), sigma=np.zeros(shape, np.float32),
-                  pec=wall, parts={})
-    fs.modes.append(ModeField(1, mode.frequency_hz, mode.q, np.pad(ek, pad), np.pad(hk, pad)))
-    return fs
+    """The solver's own TE101 field of a closed PEC box (:func:`_box_cavity.te101_fieldset`)."""
+    return _box_cavity.te101_fieldset(A, B, D, CELL)
 
 
 def test_te101_conductor_q_matches_pozar(te101):
