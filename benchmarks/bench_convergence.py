@@ -45,11 +45,17 @@ def _run(case, out, converge, fields, reuse):
         summary = run_case(case, out, progress=False, echo=None, fields=fields,
                            stop_when_converged=converge)
     run = summary["run"]
-    fp = run.get("field_pass") or {}
+    old = run.get("field_pass") or {}         # the layout of the first version of this branch
+    if old:
+        run.setdefault("field_pass_steps", old["steps"] - old["start_step"])
+        run.setdefault("field_pass_time_s", old["wall_time_s"])
+        run.setdefault("field_pass_stop_reason", old["stop_reason"])
+    if isinstance(run.get("convergence_checks"), list):
+        run["convergence_checks"] = len(run["convergence_checks"])
     return {"steps": run["steps"], "first_pass_s": run["stepping_time_s"], "stop": run["stop_reason"],
-            "field_steps": fp.get("steps", 0) - fp.get("start_step", 0), "field_s": fp.get("wall_time_s", 0.0),
-            "field_stop": fp.get("stop_reason", ""), "total_s": run["wall_time_s"],
-            "load": [load0, os.getloadavg()[0]], "checks": len(run.get("convergence_checks", [])),
+            "field_steps": run.get("field_pass_steps", 0), "field_s": run.get("field_pass_time_s", 0.0),
+            "field_stop": run.get("field_pass_stop_reason", ""), "total_s": run["wall_time_s"],
+            "load": [load0, os.getloadavg()[0]], "checks": run.get("convergence_checks", 0),
             "modes": [(m["frequency_hz"], m.get("q_solver", m["q"])) for m in summary["modes"]],
             "participation": [m.get("participation", {}) for m in summary["modes"]]}
 

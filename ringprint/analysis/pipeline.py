@@ -90,6 +90,17 @@ def _grid_summary(model) -> dict:
             "origin_m": [float(g.x[0]), float(g.y[0]), float(g.z[0])]}
 
 
+def _field_pass_facts(done: dict) -> dict:
+    """modes.json ``run`` entries of the field pass (none without one): the step it began
+    at, the ring-down steps it took, why it stopped and its wall time."""
+    if not done:
+        return {}
+    return {"field_pass_start_step": int(done["start_step"]),
+            "field_pass_steps": int(done["steps"] - done["start_step"]),
+            "field_pass_stop_reason": done["stop_reason"],
+            "field_pass_time_s": float(done["wall_time_s"])}
+
+
 def coarse_run(case, level: int, allow_memory: bool = False) -> CoarseRun:
     """The case run on a grid ``GRID_RATIO ** level`` times coarser (no checkpoints, no
     fields): the modes the grid study compares with the main run's."""
@@ -229,9 +240,8 @@ def run_case(case_path, out_dir=None, resume: bool = False, progress: bool | Non
                     "probe": {"center_m": list(probe.center), "normal": probe.normal,
                               "size_cells": probe.size_cells, "placed": probe.chosen},
                     "pickups": ring.names,
-                    "convergence_checks": list(ring.checks),
-                    "field_pass": {k: field_pass[k] for k in ("start_step", "steps", "stop_reason",
-                                                               "wall_time_s") if k in field_pass}},
+                    "convergence_checks": len(ring.checks),
+                    **_field_pass_facts(field_pass)},
             "notes": notes,
             "fields": None if fs is None else {
                 "file": "fields.h5", "lattice_step_m": fs.spacing if fs.uniform else None,
