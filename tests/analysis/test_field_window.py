@@ -66,13 +66,15 @@ def two_passes(puck_case):
     probe = placement.place_probe(model)
     sim = ringdown.build_simulation(model, probe, placement.pickup_points(model))
     ring = ringdown.ring(model, sim, converge=False, snapshot=True)
-    res, rows = find_resonances(ring, F_MIN, F_MAX)
-    modes, _ = mode_table(res, rows, ring.probe_signal, enclosing_sphere(model.vertices())[1], [], 0.03)
-    lat = lt.plan_lattice(model, len(modes), 2 ** 28)
-    short, full = {}, {}
-    fs_short = compute_fields(model, probe, ring, modes, lat, converge=True, record=short)
-    fs_full = compute_fields(model, probe, ring, modes, lat, converge=False, record=full)
-    ringdown.remove_snapshot(ring)
+    try:
+        res, rows = find_resonances(ring, F_MIN, F_MAX)
+        modes, _ = mode_table(res, rows, ring.probe_signal, enclosing_sphere(model.vertices())[1], [], 0.03)
+        lat = lt.plan_lattice(model, len(modes), 2 ** 28)
+        short, full = {}, {}
+        fs_short = compute_fields(model, probe, ring, modes, lat, converge=True, record=short)
+        fs_full = compute_fields(model, probe, ring, modes, lat, converge=False, record=full)
+    finally:
+        ringdown.remove_snapshot(ring)      # a temporary file (no output folder here)
     return ring, modes, fs_short, fs_full, short, full
 
 
