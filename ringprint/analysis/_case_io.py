@@ -102,7 +102,8 @@ def resolved_dict(case: Case, relative_to=None) -> dict:
         out["grid"]["symmetry"] = dict(case.grid.symmetry)
     out["analysis"] = {"q_max": case.analysis.q_max,
                        "detuning_margin": case.analysis.detuning_margin,
-                       "grid_check": case.analysis.grid_check or False}
+                       "grid_check": case.analysis.grid_check or False,
+                       "stop_when_converged": case.analysis.stop_when_converged}
     out["output"] = {"fields": case.output.fields, "images": case.output.images,
                      "field_memory": case.output.field_memory_bytes / 2.0 ** 20}
     return out

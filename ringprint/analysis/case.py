@@ -61,6 +61,8 @@ unit such as ``"2.4 GHz"``)::
     grid_check = false                  # true: run again on a coarser grid for each mode's
                                         # grid uncertainty; 3: on two coarser grids
                                         # (ringprint.analysis.uncertainty)
+    stop_when_converged = true          # end the ring-down once the modes are stable
+                                        # (ringprint.analysis.convergence)
 
     [output]                            # optional
     fields = true                       # write per-mode field files
@@ -180,12 +182,14 @@ class Grid:
 
 @dataclass(frozen=True)
 class Analysis:
-    """The highest Q to resolve (sets the record length), the detuning margin (fraction)
-    and the number of grids of the grid study (0: none, 2 or 3)."""
+    """The highest Q to resolve (sets the record length), the detuning margin (fraction),
+    the number of grids of the grid study (0: none, 2 or 3) and whether the ring-down
+    ends once its modes are stable."""
 
     q_max: float
     detuning_margin: float
     grid_check: int = 0
+    stop_when_converged: bool = True
 
 
 @dataclass(frozen=True)
@@ -295,14 +299,16 @@ def _build(ck: Checker, data: dict, source: Path) -> Case:
     grid = _grid(ck, data.get("grid", {}), spectrum, unit)
     probe = _probe(ck, data["probe"], spectrum, grid, unit) if "probe" in data else None
     table = ck.table(data.get("analysis", {}), ("analysis",),
-                     ("q_max", "detuning_margin", "grid_check"))
+                     ("q_max", "detuning_margin", "grid_check", "stop_when_converged"))
     analysis = Analysis(
         q_max=ck.number(table.get("q_max", 200.0), ("analysis", "q_max"), low=1.0,
                         hint="Q below 1 is not a resonance"),
         detuning_margin=ck.number(table.get("detuning_margin", DEFAULT_MARGIN),
                                   ("analysis", "detuning_margin"), low=0.0, high=1.0,
                                   high_open=True, hint="a fraction: write 0.03 for 3 %"),
-        grid_check=_grid_check(ck, table.get("grid_check", False), grid))
+        grid_check=_grid_check(ck, table.get("grid_check", False), grid),
+        stop_when_converged=ck.boolean(table.get("stop_when_converged", True),
+                                       ("analysis", "stop_when_converged")))
     table = ck.table(data.get("output", {}), ("output",), ("fields", "images", "field_memory"))
     output = Output(fields=ck.boolean(table.get("fields", True), ("output", "fields")),
                     images=ck.boolean(table.get("images", True), ("output", "images")),

@@ -65,18 +65,20 @@ def check_budget(model, budget_bytes: float) -> None:
     lt.plan_lattice(model, 1, budget_bytes)
 
 
-def run_field_stage(model, probe, ring, modes, hazards, out_dir, notes, progress=None):
+def run_field_stage(model, probe, ring, modes, hazards, out_dir, notes, progress=None, record=None):
     """Compute and attach everything field-derived; returns the FieldSet or None.
 
     ``ring`` is the run, or under mirror planes the list ``[(walls, Ringdown), ...]``
-    of every wall combination (:func:`ringprint.analysis.symmetry_fields.compute`)."""
+    of every wall combination (:func:`ringprint.analysis.symmetry_fields.compute`).
+    ``record`` (a dict) receives what the field pass did (steps, stop reason, time)."""
     try:
         lat = lt.plan_lattice(model, len(modes), model.case.output.field_memory_bytes)
     except RingprintError as exc:
         notes.append(f"mode fields skipped: {exc}")
         log.warning("mode fields skipped: %s", exc)
         return None
-    fs = symmetry_fields.compute(model, probe, ring, modes, lat, progress=progress, notes=notes)
+    fs = symmetry_fields.compute(model, probe, ring, modes, lat, progress=progress, notes=notes,
+                                 record=record)
     log.info("mode fields on every %d grid node(s): %s points", fs.decimation,
              "x".join(str(n) for n in fs.shape))
     losses = cl.mode_losses(fs, cl.conductor_surfaces(model))

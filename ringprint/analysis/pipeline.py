@@ -96,6 +96,17 @@ def _grid_summary(model) -> dict:
             "origin_m": [float(g.x[0]), float(g.y[0]), float(g.z[0])]}
 
 
+def _field_pass_facts(done: dict) -> dict:
+    """modes.json ``run`` entries of the field pass (none without one): the step it began
+    at, the ring-down steps it took, why it stopped and its wall time."""
+    if not done:
+        return {}
+    return {"field_pass_start_step": int(done["start_step"]),
+            "field_pass_steps": int(done["steps"] - done["start_step"]),
+            "field_pass_stop_reason": done["stop_reason"],
+            "field_pass_time_s": float(done["wall_time_s"])}
+
+
 def coarse_run(case, level: int, allow_memory: bool = False) -> CoarseRun:
     """The case run on a grid ``GRID_RATIO ** level`` times coarser (no checkpoints, no
     fields): the modes the grid study compares with the main run's."""
@@ -118,7 +129,7 @@ def coarse_run(case, level: int, allow_memory: bool = False) -> CoarseRun:
 def run_case(case_path, out_dir=None, resume: bool = False, progress: bool | None = None,
              checkpoint_every_s: float = 300.0, allow_memory: bool = False,
              halt_after_steps: int | None = None, echo=print, fields: bool | None = None,
-             grid_check: int | None = None) -> dict:
+             grid_check: int | None = None, stop_when_converged: bool | None = None) -> dict:
     """Run one case end to end and write its results; returns the modes.json summary.
 
     Parameters
@@ -145,9 +156,15 @@ def run_case(case_path, out_dir=None, resume: bool = False, progress: bool | Non
     grid_check : int or None
         Grids of the grid study (0: none, 2 or 3); None: as the case's
         ``analysis.grid_check`` says.
+    stop_when_converged : bool or None
+        End the ring-down and the field pass once their results are stable; None: as
+        the case's ``analysis.stop_when_converged`` says.
     """
     t_start = time.perf_counter()
     case = load_case(case_path)
+    if stop_when_converged is not None:
+        case = dataclasses.replace(case, analysis=dataclasses.replace(
+            case.analysis, stop_when_converged=bool(stop_when_converged)))
     grids = case.analysis.grid_check if grid_check is None else int(grid_check)
     problem = check_grid_study(case.grid.cells_per_wavelength, grids)
     if problem:
@@ -186,7 +203,9 @@ def run_case(case_path, out_dir=None, resume: bool = False, progress: bool | Non
         ring = ringdown.ring(model, sim, out, digest, checkpoint_every_s,
                              progress=lambda s, n: bar.at(0.1 + (0.4 if fields else 0.8) * s / n,
                                                           "stepping"),
-                             halt_after_steps=halt_after_steps)
+                             halt_after_steps=halt_after_steps, snapshot=fields)
+        for line in ring.checks:
+            log.info(line)
         log.info("%d steps, dt %.4g s, stopped on %s, %.1f s", ring.steps, ring.dt, ring.stop_reason,
                  ring.wall_time_s)
         bar.at(0.9, "analysis")
@@ -207,9 +226,13 @@ def run_case(case_path, out_dir=None, resume: bool = False, progress: bool | Non
         fs = None
         remove_stale(out)
         mark_without_losses(modes)
+        field_pass = {}
         if fields:
             fs = run_field_stage(model, probe, runs, modes, hazards, out, notes,
-                                 progress=lambda s, n: bar.at(0.5 + 0.4 * s / n, "fields"))
+                                 progress=lambda s, n: bar.at(0.5 + 0.4 * s / n, "fields"),
+                                 record=field_pass)
+        for _walls, each in runs:
+            ringdown.remove_snapshot(each)
         notes += no_fields_note(model, fs)
         notes += [f"mode {m['index']}: Q {m['q_solver']:.3g} (ring-down) is below the Chu bound "
                   f"{m['q_chu']:.3g}; "
@@ -230,7 +253,9 @@ def run_case(case_path, out_dir=None, resume: bool = False, progress: bool | Non
                     "ringdown_start_s": float(ring.start_index * ring.dt),
                     "probe": {"center_m": list(probe.center), "normal": probe.normal,
                               "size_cells": probe.size_cells, "placed": probe.chosen},
-                    "pickups": ring.names},
+                    "pickups": ring.names,
+                    "convergence_checks": len(ring.checks),
+                    **_field_pass_facts(field_pass)},
             "notes": notes,
             "fields": None if fs is None else {
                 "file": "fields.h5", "lattice_step_m": fs.spacing if fs.uniform else None,

@@ -12,9 +12,17 @@ Record length (rules the report cites):
   diagonalization recovers such a Q from a record of that length (its resolution
   is far finer than the Fourier limit ``1/T``; Mandelshtam & Taylor 1997).
 
+- or, with ``[analysis] stop_when_converged`` (default), as soon as the mode list
+  found from the record so far is stable over two successive checks, which may be
+  before the floor of ``MIN_PERIODS`` periods (:mod:`ringprint.analysis.convergence`
+  states the rule and its schedule).
+
 A long run writes a checkpoint (HDF5 fields and records, plus a JSON note with the
 case digest) every ``checkpoint_every_s`` seconds into the output directory;
-:func:`ring` with ``resume=True`` continues from it.
+:func:`ring` with ``resume=True`` continues from it. On request (``snapshot``) the
+run also saves the solver's full state at the first step of the ring-down
+(:data:`START_SNAPSHOT` in the output directory, or a temporary file without one):
+the field pass restarts from there (:mod:`ringprint.analysis.mode_fields`).
 """
 
 from __future__ import annotations
@@ -22,6 +30,7 @@ from __future__ import annotations
 import json
 import math
 import os
+import tempfile
 import time
 from dataclasses import dataclass
 from pathlib import Path
@@ -30,6 +39,7 @@ import numpy as np
 
 from ringprint import fdtd
 from ringprint.analysis import symmetry
+from ringprint.analysis.convergence import Watch, first_check
 from ringprint.analysis.outputs import atomic_write_text
 from ringprint.errors import RingprintError
 
@@ -38,6 +48,7 @@ MIN_PERIODS = 20
 CHUNK_STEPS = 256
 CHECKPOINT_NAME = "checkpoint.h5"
 CHECKPOINT_NOTE = "checkpoint.json"
+START_SNAPSHOT = "ringdown_start.h5"
 
 
 @dataclass
@@ -54,6 +65,10 @@ class Ringdown:
     wall_time_s: float
     energy: np.ndarray
     probe_signal: int
+    #: Solver state saved at ``start_index`` (a path), or None.
+    start_snapshot: str | None = None
+    #: One line per convergence check (for the run log).
+    checks: tuple = ()
 
 
 def source_pulse(case) -> fdtd.GaussianPulse:
@@ -120,7 +135,8 @@ def load_checkpoint(out_dir, digest: str):
 
 
 def ring(model, sim, out_dir=None, digest: str = "", checkpoint_every_s: float = 300.0,
-         progress=None, halt_after_steps: int | None = None) -> Ringdown:
+         progress=None, halt_after_steps: int | None = None, converge: bool | None = None,
+         snapshot: bool = False) -> Ringdown:
     """Advance ``sim`` until the ring-down is complete (rules in the module docstring).
 
     Parameters
@@ -139,6 +155,17 @@ def ring(model, sim, out_dir=None, digest: str = "", checkpoint_every_s: float =
     halt_after_steps : int or None
         Stop (after writing a checkpoint) once this many steps are done, as if the
         run had been killed; for tests of ``--resume``.
+    converge : bool or None
+        Stop once the mode list has converged (:mod:`ringprint.analysis.convergence`);
+        None: as the case's ``analysis.stop_when_converged`` says.
+    snapshot : bool
+        Save the solver state at the first ring-down step (``Ringdown.start_snapshot``;
+        a run resumed past that step finds it in ``out_dir`` if an earlier part saved it).
+
+    References
+    ----------
+    Mandelshtam, V. A. & Taylor, H. S., J. Chem. Phys. 107(17):6756-6769, 1997
+    (filter diagonalization, used by the convergence checks).
     """
     case = model.case
     dt = sim.dt
@@ -146,12 +173,21 @@ def ring(model, sim, out_dir=None, digest: str = "", checkpoint_every_s: float =
     start = int(math.ceil(t_src / dt))
     limit = record_limit(case, dt, t_src)
     min_steps = start + int(math.ceil(MIN_PERIODS / (case.spectrum.f_min_hz * dt)))
+    converge = case.analysis.stop_when_converged if converge is None else bool(converge)
+    watch = (Watch(start, first_check(case.spectrum.f_min_hz, dt), limit - start, dt,
+                   case.spectrum.f_min_hz, case.spectrum.f_max_hz, case.analysis.q_max)
+             if converge else None)
+    snap = _snapshot_path(out_dir) if snapshot else None
     t0 = time.perf_counter()
     last_save = t0
     reason = "time limit (q_max)"
     while sim.step_index < limit:
-        n = min(CHUNK_STEPS, limit - sim.step_index)
-        sim.run(n, progress=False)
+        end = min(limit, (sim.step_index // CHUNK_STEPS + 1) * CHUNK_STEPS)
+        if snap is not None and sim.step_index < start < end:     # split the chunk at start
+            sim.run(start - sim.step_index, progress=False)
+        if snap is not None and sim.step_index == start:
+            sim.save_checkpoint(snap)
+        sim.run(end - sim.step_index, progress=False)
         if progress is not None:
             progress(sim.step_index, limit)
         if sim.step_index >= min_steps:
@@ -160,6 +196,11 @@ def ring(model, sim, out_dir=None, digest: str = "", checkpoint_every_s: float =
             peak = after.max() if after.size else 0.0
             if peak > 0 and after[-1] <= DECAY_LEVEL * peak:
                 reason = f"decayed to {DECAY_LEVEL:g} of the peak energy"
+                break
+        if watch is not None and watch.due(sim.step_index):
+            stop = watch.check(_record(sim))
+            if stop is not None:
+                reason = stop
                 break
         now = time.perf_counter()
         halt = halt_after_steps is not None and sim.step_index >= halt_after_steps
@@ -171,13 +212,39 @@ def ring(model, sim, out_dir=None, digest: str = "", checkpoint_every_s: float =
     rec = sim.records()
     names = list(sim.pickups)
     signals = np.stack([rec[name] for name in names])
+    if snap is not None and not snap.is_file():
+        snap = None                               # resumed past the start without a snapshot
     return Ringdown(signals, names, dt, start, sim.step_index, reason,
-                    time.perf_counter() - t0, rec["energy"], names.index("probe_emf"))
+                    time.perf_counter() - t0, rec["energy"], names.index("probe_emf"),
+                    start_snapshot=None if snap is None else str(snap),
+                    checks=tuple(watch.lines) if watch is not None else ())
+
+
+def _record(sim) -> np.ndarray:
+    """All pickup records so far, one row per pickup (float64)."""
+    rec = sim.records()
+    return np.stack([rec[name] for name in sim.pickups])
+
+
+def _snapshot_path(out_dir) -> Path:
+    """Where the ring-down start goes: the output directory, or a new temporary file."""
+    if out_dir is not None:
+        return Path(out_dir) / START_SNAPSHOT
+    fd, name = tempfile.mkstemp(prefix="ringprint_start_", suffix=".h5")
+    os.close(fd)
+    os.remove(name)          # written (atomically) when the run reaches the start
+    return Path(name)
+
+
+def remove_snapshot(ring: Ringdown) -> None:
+    """Delete the ring-down start snapshot of ``ring`` (once the field pass is done)."""
+    if ring.start_snapshot:
+        Path(ring.start_snapshot).unlink(missing_ok=True)
 
 
 def remove_checkpoint(out_dir) -> None:
     """Delete a finished run's checkpoint files."""
-    for p in _paths(out_dir):
+    for p in (*_paths(out_dir), Path(out_dir) / START_SNAPSHOT):
         try:
             os.remove(p)
         except FileNotFoundError:

@@ -76,17 +76,20 @@ def unfold(v: np.ndarray, axis: int, signs: np.ndarray) -> np.ndarray:
     return np.concatenate([image, plane, v], axis=d)
 
 
-def compute(model, probe, runs, modes, lat: lt.Lattice, progress=None, notes=None) -> FieldSet:
+def compute(model, probe, runs, modes, lat: lt.Lattice, progress=None, notes=None,
+            record=None) -> FieldSet:
     """Every mode's field on the whole model (rules in the module docstring).
 
     ``runs`` lists ``(walls, Ringdown)`` per wall combination (a single Ringdown is
     taken as the model's own run); without mirror planes this is
-    :func:`ringprint.analysis.mode_fields.compute_fields`.
+    :func:`ringprint.analysis.mode_fields.compute_fields`. ``record`` receives what the
+    field pass of the first wall combination did (steps, stop reason, time).
     """
     if not isinstance(runs, list):
         runs = [(model.walls, runs)]
     if model.half is None:
-        return compute_fields(model, probe, runs[0][1], modes, lat, progress=progress, notes=notes)
+        return compute_fields(model, probe, runs[0][1], modes, lat, progress=progress, notes=notes,
+                              record=record)
     whole = symmetric_lattice(model, lat)
     eps_r, sigma, pec = lt.node_media(model, whole)
     axes = [ax[i] for ax, i in zip(model.grid.axes, whole.indices())]
@@ -102,7 +105,8 @@ def compute(model, probe, runs, modes, lat: lt.Lattice, progress=None, notes=Non
         if not own:
             continue
         part = compute_fields(solver_model(with_walls(model, walls)), probe, ring, own, solved_lat,
-                              progress=progress, notes=notes)
+                              progress=progress, notes=notes, record=record)
+        record = None                       # the first wall combination's pass is the one recorded
         for mf in part.modes:
             e, h = mf.e, mf.h
             for a, _c in model.grid.mirrors:

@@ -34,7 +34,7 @@ def other_runs(model, probe, progress=None) -> list:
         each = with_walls(model, walls)
         sim = ringdown.build_simulation(each, probe, pickups)
         ring = ringdown.ring(each, sim, progress=None if progress is None else
-                             (lambda s, n, k=k: progress((k + s / n) / len(classes))))
+                             (lambda s, n, k=k: progress((k + s / n) / len(classes))), snapshot=True)
         log.info("walls %s: %d steps, stopped on %s, %.1f s", class_label(walls), ring.steps,
                  ring.stop_reason, ring.wall_time_s)
         out.append((walls, ring))

@@ -412,9 +412,11 @@ def test_grid_check_with_too_few_cells_is_refused(tmp_path, capsys):
     assert not (tmp_path / "o").exists()
 
 
-def test_grid_check_key_of_the_wrong_kind_is_refused(tmp_path, capsys):
+@pytest.mark.parametrize("key, value, expected", [("grid_check", '"yes"', "true, false or 3"),
+                                                    ("stop_when_converged", '"yes"', "true or false")])
+def test_analysis_key_of_the_wrong_kind_is_refused(tmp_path, capsys, key, value, expected):
     case = _case(tmp_path)
-    case.write_text(case.read_text().replace("q_max = 40", 'q_max = 40\ngrid_check = "yes"'))
+    case.write_text(case.read_text().replace("q_max = 40", f"q_max = 40\n{key} = {value}"))
     code = cli.main(["run", str(case), "--out", str(tmp_path / "o"), "--quiet"])
     err = capsys.readouterr().err.strip().splitlines()
-    assert code == 1 and len(err) == 1 and "grid_check" in err[0] and "true, false or 3" in err[0], err
+    assert code == 1 and len(err) == 1 and key in err[0] and expected in err[0], err
