@@ -43,6 +43,11 @@ PARAMETERS = ("S", "Y", "Z")
 MAX_PORTS = 2
 
 
+def s_db(s) -> np.ndarray:
+    """``20 log10 |S|`` (dB); exact zeros give -6000 dB rather than -inf."""
+    return 20.0 * np.log10(np.maximum(np.abs(s), 1e-300))
+
+
 @dataclass(frozen=True)
 class Reflection:
     """One port's reflection coefficient against frequency.
@@ -68,7 +73,7 @@ class Reflection:
     @property
     def db(self) -> np.ndarray:
         """``20 log10 |S|`` (dB)."""
-        return 20.0 * np.log10(np.maximum(np.abs(self.s), 1e-300))
+        return s_db(self.s)
 
 
 @dataclass(frozen=True)
