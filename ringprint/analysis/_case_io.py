@@ -84,7 +84,8 @@ def resolved_dict(case: Case) -> dict:
                        "detuning_margin": case.analysis.detuning_margin,
                        "grid_check": case.analysis.grid_check or False}
     out["output"] = {"fields": case.output.fields, "images": case.output.images,
-                     "field_memory": case.output.field_memory_bytes / 2.0 ** 20}
+                     "field_memory": case.output.field_memory_bytes / 2.0 ** 20,
+                     "port_impedance": case.output.port_impedance_ohm}
     return out
 
 

@@ -31,6 +31,7 @@ from ringprint.analysis.model import build_model
 from ringprint.analysis.modes import find_resonances, mode_table
 from ringprint.analysis.outputs import RunLogHandler, atomic_write_text, prepare_output_dir
 from ringprint.analysis.report import format_summary_table, write_results
+from ringprint.analysis.report_s11 import probe_section, run_probe_port
 from ringprint.analysis.results import q_text
 from ringprint.analysis.uncertainty import GRID_RATIO, check_grid_study
 from ringprint.errors import RingprintError
@@ -73,6 +74,7 @@ def _case_summary(case, model) -> dict:
                       "kind": ", ".join(sorted({s.kind for s in p.surfaces})),
                       "triangles": int(sum(s.n_triangles for s in p.surfaces)),
                       "volume_m3": float(sum(s.volume for s in p.surfaces)),
+                      "eps_r": None if case.medium(p.part)[2] else float(case.medium(p.part)[0]),
                       "thinner_than_a_cell": bool(p.thin)})
     stem = case.source.stem
     name = f"{case.source.parent.name}/{stem}" if stem == "case" else stem  # "tag/case", not "case"
@@ -199,6 +201,7 @@ def run_case(case_path, out_dir=None, resume: bool = False, progress: bool | Non
             fs = run_field_stage(model, probe, ring, modes, hazards, out, notes,
                                  progress=lambda s, n: bar.at(0.5 + 0.4 * s / n, "fields"))
         notes += no_fields_note(model, fs)
+        port = run_probe_port(ring, ringdown.source_pulse(case), res, case, modes, out, bands, notes)
         notes += [f"mode {m['index']}: Q {m['q_solver']:.3g} (ring-down) is below the Chu bound "
                   f"{m['q_chu']:.3g}; "
                   "treat it as suspect" for m in modes if m["below_chu"] and m["chu_applies"]]
@@ -219,6 +222,7 @@ def run_case(case_path, out_dir=None, resume: bool = False, progress: bool | Non
                               "size_cells": probe.size_cells, "placed": probe.chosen},
                     "pickups": ring.names},
             "notes": notes,
+            "probe_s11": port.summary,
             "fields": None if fs is None else {
                 "file": "fields.h5", "lattice_step_m": fs.spacing if fs.uniform else None,
                 "lattice_step_min_m": fs.min_step,
@@ -231,7 +235,8 @@ def run_case(case_path, out_dir=None, resume: bool = False, progress: bool | Non
         log.info("%d modes, %d hazards", len(modes), len(hazards))
         handler.flush()
         write_results(out, summary, spectrum, bands, log_lines=None,
-                      extra_html=field_section(summary, fs, case.output.images))
+                      extra_html=field_section(summary, fs, case.output.images)
+                      + probe_section(port, modes, bands, case.output.images))
         ringdown.remove_checkpoint(out)
         bar.at(1.0, "done")
     finally:
