@@ -20,7 +20,7 @@ from pathlib import Path
 import numpy as np
 import pytest
 
-from ringprint.analysis.bench_q import circle_fit, reflection_resonances, vector_fit_poles
+from ringprint.analysis.bench_q import circle_fit, pole_fit, reflection_resonances, vector_fit_poles
 from ringprint.analysis.touchstone import read_reflection
 
 # two resonances of a rational S11 (s = j w): poles -w/(2Q) + j w with residues r
@@ -55,7 +55,7 @@ def test_known_poles_come_back_from_a_touchstone_file(tmp_path, unit, form):
     """Vector fitting of the file's trace gives both poles to 1e-6 (relative, complex)."""
     f = np.linspace(1.5e9, 2.8e9, 601)
     r = read_reflection(_write(tmp_path / "poles.s1p", f, _rational(f), unit, form))
-    poles, _res = vector_fit_poles(r.f_hz, r.s, r.z0)
+    poles, _res, _model = vector_fit_poles(r.f_hz, r.s, r.z0)
     for fk, q, _ in POLES:
         w = 2 * np.pi * fk
         p = complex(-w / (2 * q), w)
@@ -73,6 +73,25 @@ def test_pole_frequency_and_loaded_q_of_vector_fitting(tmp_path):
     for m, (fk, q, _) in zip(found, POLES):
         assert abs(m.vf_frequency_hz / fk - 1) < 1e-6
         assert abs(m.vf_q_loaded / q - 1) < 1e-6
+        assert m.fit.method == "circle fit"
+
+
+def test_pole_fallback_agrees_with_the_circle_fit():
+    """The fallback (f, Q_L and the circle from one pole and residue) gives the circle
+    fit's values on a clean trace: same f and Q_L to 1e-6, kappa to 1e-2 (the circle
+    fit's background is linear, the pole's is the rest of the rational model)."""
+    f = np.linspace(1.5e9, 2.8e9, 601)
+    poles, residues, model = vector_fit_poles(f, _rational(f))
+    fits = {round(m.fit.frequency_hz / 1e7): m.fit for m in reflection_resonances(f, _rational(f))}
+    for p, r in zip(poles, residues):
+        if p.imag <= 0:
+            continue
+        pf = pole_fit(p, r, model)
+        cf = fits[round(pf.frequency_hz / 1e7)]
+        assert pf.method == "vector fit" and np.isnan(pf.q_loaded_error)
+        assert abs(pf.frequency_hz / cf.frequency_hz - 1) < 1e-6
+        assert abs(pf.q_loaded / cf.q_loaded - 1) < 1e-6
+        assert abs(pf.coupling / cf.coupling - 1) < 1e-2
 
 
 @pytest.mark.parametrize("kappa", [0.3, 1.0, 2.5])
