@@ -24,7 +24,10 @@ Rules (``ringprint match`` prints and writes them):
   the paired modes' offsets by least squares; the part whose fit leaves the least
   residual, with at least ``HINT_MIN_SHARE`` of some paired mode's energy in it,
   is named with ``eps_r (1 + x)``. The fit is first order: a change of more than
-  ``HINT_FIRST_ORDER`` (30 %) is flagged as beyond it. Without fields in the run
+  ``HINT_FIRST_ORDER`` (30 %) is flagged as beyond it, and a fit that leaves more
+  than ``HINT_EXPLAINS`` (half) of the offsets' rms is reported as explaining
+  nothing (``explains`` false: no single part's permittivity accounts for the
+  offsets; look at the geometry, the metals or the probe). Without fields in the run
   (no ``participation_detail``) there is no hint.
 
 References
@@ -50,6 +53,7 @@ Q_WEIGHT = 0.5
 GAP_COST = 1.0
 HINT_MIN_SHARE = 0.02
 HINT_FIRST_ORDER = 0.30
+HINT_EXPLAINS = 0.5
 
 
 @dataclass(frozen=True)
@@ -123,7 +127,7 @@ def material_hint(offsets, shares: dict, eps_r: dict) -> dict | None:
     -------
     dict or None
         ``{"part", "d_eps_over_eps", "eps_r", "suggested_eps_r", "residual_rms",
-        "offset_rms", "first_order"}``, or None when no part qualifies.
+        "offset_rms", "first_order", "explains"}``, or None when no part qualifies.
     """
     y = np.asarray(offsets, float)
     if y.size == 0:
@@ -141,6 +145,8 @@ def material_hint(offsets, shares: dict, eps_r: dict) -> dict | None:
                     "suggested_eps_r": None if eps is None else float(eps * (1 + x)),
                     "residual_rms": resid, "offset_rms": float(np.sqrt(np.mean(y ** 2))),
                     "first_order": abs(x) <= HINT_FIRST_ORDER}
+    if best is not None:
+        best["explains"] = best["residual_rms"] <= HINT_EXPLAINS * best["offset_rms"]
     return best
 
 

@@ -113,7 +113,11 @@ def _table(result: dict) -> list[str]:
                      f"(Q0 {format_q(m['q_unloaded'])}): no simulated mode within "
                      f"{result['within_percent']:g} %")
     h = result["material_hint"]
-    if h:
+    if h and not h["explains"]:
+        lines.append(f"hint: no single dielectric part explains the offsets (the best, {h['part']!r}, "
+                     f"takes their rms only from {100 * h['offset_rms']:.3f} % to "
+                     f"{100 * h['residual_rms']:.3f} %)")
+    elif h:
         eps = "" if h["eps_r"] is None else (f": eps_r {h['eps_r']:.4g} -> {h['suggested_eps_r']:.4g}")
         tail = "" if h["first_order"] else " (beyond first order: treat as a direction only)"
         lines.append(f"hint: the offsets fit best a change of {100 * h['d_eps_over_eps']:+.1f} % in "

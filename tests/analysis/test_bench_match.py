@@ -76,7 +76,13 @@ def test_material_hint_recovers_a_known_change():
     y = -e["a"] * 0.04
     h = material_hint(y, e, {"a": 3.0})
     assert h["part"] == "a" and abs(h["d_eps_over_eps"] - 0.04) < 1e-12
-    assert abs(h["suggested_eps_r"] - 3.12) < 1e-12 and h["residual_rms"] < 1e-15
+    assert abs(h["suggested_eps_r"] - 3.12) < 1e-12 and h["residual_rms"] < 1e-15 and h["explains"]
+
+
+def test_material_hint_says_when_no_part_explains_the_offsets():
+    e = {"a": np.array([0.1, 0.3, 0.05])}
+    h = material_hint(np.array([0.01, -0.01, 0.01]), e, {"a": 3.0})
+    assert not h["explains"] and h["residual_rms"] > 0.5 * h["offset_rms"]
 
 
 def test_match_command_end_to_end(bench, capsys):
@@ -93,7 +99,7 @@ def test_match_command_end_to_end(bench, capsys):
     assert len(result["unmatched_measured"]) == 1
     assert abs(result["unmatched_measured"][0]["frequency_hz"] / EXTRA[0] - 1) < 1e-4
     hint = result["material_hint"]
-    assert hint["part"] == "housing"
+    assert hint["part"] == "housing" and hint["explains"]
     assert abs(hint["d_eps_over_eps"] - D_EPS) < 2e-3
     assert abs(hint["suggested_eps_r"] - 2.7 * (1 + D_EPS)) < 0.01
     assert "hint:" in text and "'housing'" in text
