@@ -74,7 +74,8 @@ def probe_section(port: ProbePort, modes, bands, images: bool = True) -> str:
     out = ['<h2 id="probe-s11-title">Probe S11 (as on a network analyzer)</h2>',
            f'<p class="muted">The loop probe as a port of {e(f"{t.z0:g}")} ohm: '
            f'S11 = (Z - Z0)/(Z + Z0) with Z = V/I of the loop, its own inductance included; '
-           f'written to {e(FILE_NAME)}. Lowest |S11| in the band: {np.min(t.db):.2f} dB.</p>']
+           f'written to {e(FILE_NAME)}. Lowest |S11| in the band: {np.min(t.db):.3g} dB (a small '
+           f'loop couples weakly: dips of hundredths of a dB are usual).</p>']
     if images:
         png = render_s11_png([Trace("probe |S11| (simulated)", t.f_hz, t.db)],
                              [Marks(0, [(m["index"], m["frequency_hz"]) for m in modes], top=True)], bands)
@@ -83,7 +84,7 @@ def probe_section(port: ProbePort, modes, bands, images: bool = True) -> str:
                    f'{base64.b64encode(png).decode("ascii")}">')
     rows = "".join(f'<tr><td class="num">{e(m["index"])}</td><td class="num">'
                    f'{e(format_frequency(m["frequency_hz"]))}</td><td class="num">{e(format_q(m["q"]))}'
-                   f'</td><td class="num">{m["probe_s11_db"]:.2f}</td></tr>' for m in modes)
+                   f'</td><td class="num">{m["probe_s11_db"]:.3g}</td></tr>' for m in modes)
     out.append('<table id="probe-s11-table"><thead><tr><th>mode</th><th>frequency</th><th>Q</th>'
                f'<th>|S11| dip (dB)</th></tr></thead><tbody>{rows}</tbody></table>')
     return "\n".join(out)
