@@ -105,7 +105,8 @@ def resolved_dict(case: Case, relative_to=None) -> dict:
                        "grid_check": case.analysis.grid_check or False,
                        "stop_when_converged": case.analysis.stop_when_converged}
     out["output"] = {"fields": case.output.fields, "images": case.output.images,
-                     "field_memory": case.output.field_memory_bytes / 2.0 ** 20}
+                     "field_memory": case.output.field_memory_bytes / 2.0 ** 20,
+                     "port_impedance": case.output.port_impedance_ohm}
     return out
 
 

@@ -68,6 +68,7 @@ unit such as ``"2.4 GHz"``)::
     fields = true                       # write per-mode field files
     images = true                       # write mode pictures
     field_memory = 1024                 # MiB the mode fields may take (coarser lattice beyond)
+    port_impedance = 50                 # ohm: reference of the probe's S11 (probe.s11.s1p)
 
     [tolerance]                         # optional; and per part: tolerance = { ... }
     position = 0.1                      # see ringprint.analysis.tolerance (offset, eps_r %)
@@ -195,11 +196,13 @@ class Analysis:
 @dataclass(frozen=True)
 class Output:
     """Switches for the optional outputs: per-mode field files and mode pictures, and the
-    memory (bytes) the mode fields may take."""
+    memory (bytes) the mode fields may take; the reference resistance (ohm) of the
+    probe's S11."""
 
     fields: bool
     images: bool
     field_memory_bytes: float = DEFAULT_FIELD_MEMORY_MB * 2.0 ** 20
+    port_impedance_ohm: float = 50.0
 
 
 @dataclass(frozen=True)
@@ -309,12 +312,15 @@ def _build(ck: Checker, data: dict, source: Path) -> Case:
         grid_check=_grid_check(ck, table.get("grid_check", False), grid),
         stop_when_converged=ck.boolean(table.get("stop_when_converged", True),
                                        ("analysis", "stop_when_converged")))
-    table = ck.table(data.get("output", {}), ("output",), ("fields", "images", "field_memory"))
+    table = ck.table(data.get("output", {}), ("output",), ("fields", "images", "field_memory",
+                                                                   "port_impedance"))
     output = Output(fields=ck.boolean(table.get("fields", True), ("output", "fields")),
                     images=ck.boolean(table.get("images", True), ("output", "images")),
                     field_memory_bytes=2.0 ** 20 * ck.positive(
                         table.get("field_memory", DEFAULT_FIELD_MEMORY_MB), ("output", "field_memory"),
-                        hint="mebibytes, e.g. 1024"))
+                        hint="mebibytes, e.g. 1024"),
+                    port_impedance_ohm=ck.positive(table.get("port_impedance", 50.0),
+                                                   ("output", "port_impedance"), hint="ohm, e.g. 50"))
     return Case(source, title, units, unit, spectrum, parts, presets, custom, probe, grid,
                 analysis, output, tuple(ck.notes),
                 parse_tolerances(ck, data, parts, unit))

@@ -18,6 +18,7 @@ from ringprint.errors import RingprintError
 # (name, one-line help). The module ringprint.analysis.cmd_<name> does the work.
 COMMANDS: list[tuple[str, str]] = [
     ("bench", "measure solver throughput against this machine's memory bandwidth"),
+    ("match", "pair the resonances of a measured S11 file with a finished run's modes"),
     ("mesh", "mesh a case and show the grid, memory and run time, without running it"),
     ("run", "find every resonance of a case with its Q and judge it against the bands"),
     ("show", "show one mode of a finished run in 3-D (parts, field, probe), or write a picture"),

@@ -12,10 +12,10 @@ picture instead (no display needed).
 from __future__ import annotations
 
 import argparse
-import json
 from pathlib import Path
 
 from ringprint.analysis.field_plots import QUANTITIES
+from ringprint.analysis.run_dir import read_modes_json
 from ringprint.errors import RingprintError
 
 #: The oldest results layout (modes.json "results_layout") that holds mode fields.
@@ -35,19 +35,7 @@ def add_arguments(parser: argparse.ArgumentParser) -> None:
 
 def load_summary(results: Path) -> dict:
     """modes.json of a results directory, checked to come with mode fields."""
-    if not results.is_dir():
-        raise RingprintError(f"{results}: no such directory; give the results directory of "
-                             "`ringprint run`")
-    path = results / "modes.json"
-    if not path.is_file():
-        raise RingprintError(f"{results} has no modes.json; give the results directory of "
-                             "`ringprint run`")
-    try:
-        summary = json.loads(path.read_text(encoding="utf-8"))
-    except (OSError, UnicodeDecodeError, json.JSONDecodeError) as exc:
-        raise RingprintError(f"{path} is not readable JSON ({exc}); run the case again") from None
-    if not isinstance(summary, dict) or not isinstance(summary.get("modes"), list):
-        raise RingprintError(f"{path} has no list of modes; run the case again")
+    summary = read_modes_json(results)
     layout = summary.get("results_layout")
     if not isinstance(layout, int) or layout < FIELDS_LAYOUT:
         raise RingprintError(f"{results} holds results of an older ringprint (no mode fields); "

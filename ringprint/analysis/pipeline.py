@@ -31,6 +31,7 @@ from ringprint.analysis.model import build_model
 from ringprint.analysis.modes import find_resonances
 from ringprint.analysis.outputs import RunLogHandler, atomic_write_text, prepare_output_dir
 from ringprint.analysis.report import format_summary_table, write_results
+from ringprint.analysis.report_s11 import probe_section, run_probe_port
 from ringprint.analysis.results import q_text
 from ringprint.analysis.uncertainty import GRID_RATIO, check_grid_study
 from ringprint.errors import RingprintError
@@ -78,6 +79,7 @@ def _case_summary(case, model) -> dict:
                       "kind": ", ".join(sorted({s.kind for s in p.surfaces})),
                       "triangles": int(sum(s.n_triangles for s in p.surfaces)),
                       "volume_m3": float(sum(s.volume for s in p.surfaces)),
+                      "eps_r": None if case.medium(p.part)[2] else float(case.medium(p.part)[0]),
                       "thinner_than_a_cell": bool(p.thin)})
     stem = case.source.stem
     name = f"{case.source.parent.name}/{stem}" if stem == "case" else stem  # "tag/case", not "case"
@@ -212,8 +214,8 @@ def run_case(case_path, out_dir=None, resume: bool = False, progress: bool | Non
         runs = [(model.walls, ring)] + symmetry_run.other_runs(model, probe)
         _centre, radius = enclosing_sphere(model.vertices())    # the whole assembly's
         bands = list(case.bands)
-        modes, hazards = symmetry_run.merged_modes(runs, case.spectrum.f_min_hz, case.spectrum.f_max_hz,
-                                                   radius, bands, case.analysis.detuning_margin)
+        modes, hazards, res = symmetry_run.merged_modes(runs, case.spectrum.f_min_hz, case.spectrum.f_max_hz,
+                                                        radius, bands, case.analysis.detuning_margin)
         notes = list(case.notes) + list(model.warnings)
         coarse = []
         for level in range(1, grids if modes else 1):       # nothing to compare without modes
@@ -234,6 +236,7 @@ def run_case(case_path, out_dir=None, resume: bool = False, progress: bool | Non
         for _walls, each in runs:
             ringdown.remove_snapshot(each)
         notes += no_fields_note(model, fs)
+        port = run_probe_port(ring, ringdown.source_pulse(case), res, case, modes, out, bands, notes)
         notes += [f"mode {m['index']}: Q {m['q_solver']:.3g} (ring-down) is below the Chu bound "
                   f"{m['q_chu']:.3g}; "
                   "treat it as suspect" for m in modes if m["below_chu"] and m["chu_applies"]]
@@ -257,6 +260,7 @@ def run_case(case_path, out_dir=None, resume: bool = False, progress: bool | Non
                     "convergence_checks": len(ring.checks),
                     **_field_pass_facts(field_pass)},
             "notes": notes,
+            "probe_s11": port.summary,
             "fields": None if fs is None else {
                 "file": "fields.h5", "lattice_step_m": fs.spacing if fs.uniform else None,
                 "lattice_step_min_m": fs.min_step,
@@ -269,7 +273,8 @@ def run_case(case_path, out_dir=None, resume: bool = False, progress: bool | Non
         log.info("%d modes, %d hazards", len(modes), len(hazards))
         handler.flush()
         write_results(out, summary, spectrum, bands, log_lines=None,
-                      extra_html=field_section(summary, fs, case.output.images))
+                      extra_html=field_section(summary, fs, case.output.images)
+                      + probe_section(port, modes, bands, case.output.images))
         ringdown.remove_checkpoint(out)
         bar.at(1.0, "done")
     except BaseException as exc:   # the log of a failed (or halted) run ends with why

@@ -32,7 +32,7 @@ from ringprint.analysis.results import frequency_text, q_text
 from ringprint.errors import RingprintError
 
 __all__ = ["spectrum_from_record", "check_spectrum", "render_spectrum_png",
-           "write_spectrum_png", "frequency_unit"]
+           "write_spectrum_png", "frequency_unit", "shade_bands"]
 
 #: Spectra are shown down to this many dB below their peak.
 DYNAMIC_RANGE_DB = 100.0
@@ -193,6 +193,24 @@ def _worst_status(mode: Mapping) -> str:
     return "clear"
 
 
+def shade_bands(ax, bands: Sequence[Mapping], scale: float) -> list:
+    """Shade each band on ``ax`` (frequencies divided by ``scale``), its own hatch and
+    cividis tone; returns the legend handles."""
+    import matplotlib
+    from matplotlib.patches import Patch
+
+    cmap = matplotlib.colormaps["cividis"]
+    handles = []
+    for k, (name, b_lo, b_hi) in enumerate(_band_limits(bands)):
+        colour = cmap(0.25 + 0.5 * (k % 4) / 3.0)
+        hatch = _HATCHES[k % len(_HATCHES)]
+        ax.axvspan(b_lo / scale, b_hi / scale, facecolor=colour, alpha=0.22,
+                   edgecolor="0.3", hatch=hatch, linewidth=0.6, zorder=0)
+        handles.append(Patch(facecolor=colour, alpha=0.4, edgecolor="0.3", hatch=hatch,
+                             label=f"band {name}"))
+    return handles
+
+
 def render_spectrum_png(freq_hz, mag_db, modes: Sequence[Mapping] = (),
                         bands: Sequence[Mapping] = (), limits_hz: tuple[float, float] | None = None,
                         title: str = "", dpi: int = 110,
@@ -225,10 +243,8 @@ def render_spectrum_png(freq_hz, mag_db, modes: Sequence[Mapping] = (),
     bytes
         A PNG image.
     """
-    import matplotlib
     from matplotlib.figure import Figure
     from matplotlib.lines import Line2D
-    from matplotlib.patches import Patch
 
     freq = np.asarray(freq_hz, dtype=np.float64)
     mag = np.asarray(mag_db, dtype=np.float64)
@@ -248,16 +264,8 @@ def render_spectrum_png(freq_hz, mag_db, modes: Sequence[Mapping] = (),
 
     fig = Figure(figsize=(9.0, 4.8), dpi=dpi, layout="constrained")
     ax = fig.add_subplot()
-    cmap = matplotlib.colormaps["cividis"]
-    handles = []
     band_list = _band_limits(bands)
-    for k, (name, b_lo, b_hi) in enumerate(band_list):
-        colour = cmap(0.25 + 0.5 * (k % 4) / 3.0)
-        hatch = _HATCHES[k % len(_HATCHES)]
-        ax.axvspan(b_lo / scale, b_hi / scale, facecolor=colour, alpha=0.22,
-                   edgecolor="0.3", hatch=hatch, linewidth=0.6, zorder=0)
-        handles.append(Patch(facecolor=colour, alpha=0.4, edgecolor="0.3", hatch=hatch,
-                             label=f"band {name}"))
+    handles = shade_bands(ax, bands, scale)
     _name_bands(ax, band_list, lo, hi, scale)
     ax.plot(freq[shown] / scale, np.clip(mag[shown], y_lo, None), color="black",
             linewidth=1.1, zorder=2)

@@ -42,10 +42,12 @@ def other_runs(model, probe, progress=None) -> list:
 
 
 def merged_modes(runs, f_min: float, f_max: float, radius_m: float, bands, margin: float):
-    """The ``modes`` and ``hazards`` of every run, merged (rules in the module docstring)."""
-    modes = []
+    """The ``modes`` and ``hazards`` of every run, merged (rules in the module docstring),
+    and the resonances of the first run (the poles of the probe record the report shows)."""
+    modes, first = [], None
     for walls, ring in runs:
         res, rows = find_resonances(ring, f_min, f_max)
+        first = res if first is None else first
         found, _ = mode_table(res, rows, ring.probe_signal, radius_m, bands, margin)
         for m in found:
             if walls:
@@ -55,7 +57,7 @@ def merged_modes(runs, f_min: float, f_max: float, radius_m: float, bands, margi
     modes.sort(key=lambda m: m["frequency_hz"])
     for k, m in enumerate(modes):
         m["index"] = k + 1
-    return modes, judge_modes(modes, bands, margin)
+    return modes, judge_modes(modes, bands, margin), first
 
 
 def summary_block(model, runs) -> dict | None:

@@ -420,3 +420,28 @@ def test_analysis_key_of_the_wrong_kind_is_refused(tmp_path, capsys, key, value,
     code = cli.main(["run", str(case), "--out", str(tmp_path / "o"), "--quiet"])
     err = capsys.readouterr().err.strip().splitlines()
     assert code == 1 and len(err) == 1 and key in err[0] and expected in err[0], err
+
+
+def test_probe_s11_file_report_section_and_self_match(strip_run, tmp_path, capsys):
+    """The run writes the probe's S11 as Touchstone and a report section, and gives each
+    mode its dip. Read back as if measured, `ringprint match` pairs the strip's mode with
+    itself: the loaded f_L within the mode's half-power half-width f/(2Q) of the
+    open-loop pole (the loaded pole moves by kappa X/(2 Z0 Q0) of f, see
+    tests/validation/test_probe_s11_cavity.py), and Q_0 = Q_L (1 + kappa) within 10 %
+    of the run's Q (the run rings with the probe open, so its Q is unloaded)."""
+    _case_path, out, summary = strip_run
+    from ringprint.analysis.touchstone import read_reflection
+    trace = read_reflection(out / "probe.s11.s1p")
+    assert trace.z0 == 50.0 and trace.f_hz[0] == 1.5e9 and trace.f_hz[-1] == 3.5e9
+    assert np.all(np.abs(trace.s) <= 1 + 1e-9)                 # a passive port
+    assert summary["probe_s11"]["file"] == "probe.s11.s1p"
+    assert all(m["probe_s11_db"] <= 0 for m in summary["modes"])
+    assert 'id="probe-s11-table"' in (out / "report.html").read_text()
+    code = cli.main(["match", str(out), str(out / "probe.s11.s1p"), "--min-circle", "1e-6",
+                     "--out", str(tmp_path / "self")])
+    assert code == 0, capsys.readouterr().err
+    result = json.loads((tmp_path / "self" / "match.json").read_text())
+    first = summary["modes"][0]
+    pair = next(r for r in result["pairs"] if r["mode"] == first["index"])
+    assert abs(pair["offset_percent"]) < 100 / (2 * first["q"])
+    assert abs(pair["q_ratio"] - 1) < 0.10
