@@ -32,7 +32,6 @@ from ringprint.analysis.modes import find_resonances
 from ringprint.analysis.outputs import RunLogHandler, atomic_write_text, prepare_output_dir
 from ringprint.analysis.report import format_summary_table, write_results
 from ringprint.analysis.report_s11 import probe_section, run_probe_port
-from ringprint.analysis.results import q_text
 from ringprint.analysis.uncertainty import GRID_RATIO, check_grid_study
 from ringprint.errors import RingprintError
 
