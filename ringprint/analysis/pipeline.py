@@ -210,7 +210,7 @@ def run_case(case_path, out_dir=None, resume: bool = False, progress: bool | Non
         log.info("%d steps, dt %.4g s, stopped on %s, %.1f s", ring.steps, ring.dt, ring.stop_reason,
                  ring.wall_time_s)
         bar.at(0.9, "analysis")
-        runs = [(model.walls, ring)] + symmetry_run.other_runs(model, probe)
+        runs = [(model.walls, ring)] + symmetry_run.other_runs(model, probe, snapshot=fields)
         _centre, radius = enclosing_sphere(model.vertices())    # the whole assembly's
         bands = list(case.bands)
         modes, hazards, res = symmetry_run.merged_modes(runs, case.spectrum.f_min_hz, case.spectrum.f_max_hz,

@@ -24,9 +24,10 @@ from ringprint.analysis.symmetry import with_walls
 log = logging.getLogger("ringprint.run")
 
 
-def other_runs(model, probe, progress=None) -> list:
+def other_runs(model, probe, progress=None, snapshot: bool = False) -> list:
     """``[(walls, Ringdown), ...]`` for every wall combination after the model's own
-    (same probe; pickups by :func:`ringprint.analysis.placement.pickup_points`)."""
+    (same probe; pickups by :func:`ringprint.analysis.placement.pickup_points`); with
+    ``snapshot`` each keeps its ring-down start for a field pass."""
     out = []
     classes = wall_classes(model.case.grid.symmetry)[1:] if model.half is not None else []
     pickups = placement.pickup_points(model) if classes else []
@@ -34,7 +35,7 @@ def other_runs(model, probe, progress=None) -> list:
         each = with_walls(model, walls)
         sim = ringdown.build_simulation(each, probe, pickups)
         ring = ringdown.ring(each, sim, progress=None if progress is None else
-                             (lambda s, n, k=k: progress((k + s / n) / len(classes))), snapshot=True)
+                             (lambda s, n, k=k: progress((k + s / n) / len(classes))), snapshot=snapshot)
         log.info("walls %s: %d steps, stopped on %s, %.1f s", class_label(walls), ring.steps,
                  ring.stop_reason, ring.wall_time_s)
         out.append((walls, ring))
